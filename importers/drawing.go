@@ -32,6 +32,7 @@ type Polyline struct {
 	Surface string   // surface name: DXF layer, SVG id, else class, else the parent group's id
 	Group   int      // fill group index into Drawing.FillRules; DXF puts everything in group 0
 	Where   string   // the place in the file for messages, e.g. "line 412, LWPOLYLINE handle 2F"
+	Line    int      // 1-based line where the entity or element starts; 0 when unknown
 }
 
 // Drawing is what a 2D reader found in a file: flattened polylines in
