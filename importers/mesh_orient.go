@@ -1,0 +1,308 @@
+package importers
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// OrientReport says what OrientConsistently changed.
+type OrientReport struct {
+	Flipped      int // triangles whose winding was reversed
+	Duplicates   int // facets removed because an earlier facet has the same three vertices (either winding)
+	Shells       int // edge-connected components of the remaining facets
+	Inconsistent int // shells that admit no consistent winding (a Moebius-like strip, or a conflict across non-manifold edges); left as found where the conflict is
+}
+
+// OrientConsistently returns a copy of m whose facets are wound
+// consistently and outward, with exact duplicate facets removed, and a
+// report of what it did. It works on the indices as they are: call Weld
+// first when facets that touch do not share vertex indices (ReadSTL already
+// merges identical coordinates).
+//
+// Facets are grouped into patches joined by manifold edges (edges with
+// exactly two facets). Each patch is walked breadth-first from its lowest
+// facet, and a neighbour is flipped when it runs along the shared edge in
+// the same direction. A patch that is sealed (no boundary edge) then gets
+// the sign of its volume fixed: positive when it is nested inside an even
+// number of other sealed patches (an outer boundary), negative inside an
+// odd number (the wall of a cavity); nesting is decided by the generalised
+// winding number (Jacobson et al. 2013) of the other patches at a point of
+// the patch, using the solid angle formula of Van Oosterom & Strackee (1983).
+// An open patch keeps the winding of the majority of its facets.
+// Facets with repeated corners are kept unchanged.
+//
+// Cost: O(n log d) for the edge table of n facets with vertex degree d,
+// O(n) for the walk, plus O(n) per sealed patch whose box contains a point
+// of another sealed patch (nesting test).
+func OrientConsistently(m *Mesh) (*Mesh, OrientReport) {
+	p := meshPlanOrientation(m)
+	out := &Mesh{
+		Vertices: append([]r3.Vec(nil), m.Vertices...),
+		Surfaces: append([]string(nil), m.Surfaces...),
+	}
+	rep := OrientReport{Duplicates: len(p.duplicates), Shells: p.shells, Inconsistent: p.inconsistentShells}
+	for t, tr := range m.Triangles {
+		if p.dup[t] {
+			continue
+		}
+		if p.flip[t] {
+			tr[1], tr[2] = tr[2], tr[1]
+			rep.Flipped++
+		}
+		out.Triangles = append(out.Triangles, tr)
+		if t < len(m.TriangleSurface) {
+			out.TriangleSurface = append(out.TriangleSurface, m.TriangleSurface[t])
+		}
+	}
+	return out, rep
+}
+
+// meshOrientPlan is what the orientation analysis of a mesh found.
+type meshOrientPlan struct {
+	dup        []bool // duplicate facets, left out of everything else
+	duplicates []int
+	skip       []bool // dup or repeated corner
+	edges      *meshEdges
+	flip       []bool // facets to reverse
+	shell      []int32
+	shells     int
+	// Edge defects, as edge groups (lower vertex and the uses).
+	boundary, nonManifold, sameDir []meshEdgeGroup
+	inconsistentShells             int
+}
+
+// meshEdgeGroup is one undirected edge and the facets that use it.
+type meshEdgeGroup struct {
+	lo, hi int32
+	tris   []int32
+}
+
+// meshPlanOrientation analyses the winding of m without changing it.
+// Indices are trusted to be in range (Validate-d meshes, or meshes the
+// package built).
+func meshPlanOrientation(m *Mesh) *meshOrientPlan {
+	n, nv := len(m.Triangles), len(m.Vertices)
+	p := &meshOrientPlan{flip: make([]bool, n), shell: make([]int32, n)}
+	p.dup, p.duplicates = meshDuplicateFacets(m.Triangles, nv)
+	p.skip = make([]bool, n)
+	for t, tr := range m.Triangles {
+		p.skip[t] = p.dup[t] || meshRepeatedCorner(tr)
+	}
+	p.edges = meshBuildEdges(m.Triangles, nv, p.skip)
+
+	// Neighbours across manifold edges; union-find over every shared edge.
+	nb := make([]int32, 3*n)
+	for i := range nb {
+		nb[i] = -1
+	}
+	same := make([]bool, 3*n)
+	parent := make([]int32, n)
+	for i := range parent {
+		parent[i] = int32(i)
+	}
+	find := func(x int32) int32 {
+		for parent[x] != x {
+			parent[x] = parent[parent[x]]
+			x = parent[x]
+		}
+		return x
+	}
+	group := func(lo int32, uses []meshEdgeUse) meshEdgeGroup {
+		g := meshEdgeGroup{lo: lo, hi: uses[0].hi, tris: make([]int32, len(uses))}
+		for i, u := range uses {
+			g.tris[i] = u.tri
+		}
+		return g
+	}
+	p.edges.each(func(lo int32, uses []meshEdgeUse) {
+		switch {
+		case len(uses) == 1:
+			p.boundary = append(p.boundary, group(lo, uses))
+			return
+		case len(uses) == 2:
+			a, b := uses[0], uses[1]
+			s := a.fwd == b.fwd
+			nb[3*a.tri+int32(a.side)], same[3*a.tri+int32(a.side)] = b.tri, s
+			nb[3*b.tri+int32(b.side)], same[3*b.tri+int32(b.side)] = a.tri, s
+			if s {
+				p.sameDir = append(p.sameDir, group(lo, uses))
+			}
+		default:
+			p.nonManifold = append(p.nonManifold, group(lo, uses))
+		}
+		r0 := find(uses[0].tri)
+		for _, u := range uses[1:] {
+			if r := find(u.tri); r != r0 {
+				parent[r] = r0
+			}
+		}
+	})
+	// Number the shells in order of their lowest facet.
+	id := make(map[int32]int32)
+	for t := range n {
+		if p.skip[t] {
+			p.shell[t] = -1
+			continue
+		}
+		r := find(int32(t))
+		s, ok := id[r]
+		if !ok {
+			s = int32(len(id))
+			id[r] = s
+		}
+		p.shell[t] = s
+	}
+	p.shells = len(id)
+
+	// Breadth-first walk of each patch.
+	seen := make([]bool, n)
+	var queue, members []int32
+	var sealed []meshPatch
+	badShell := make(map[int32]bool)
+	for seed := range n {
+		if p.skip[seed] || seen[seed] {
+			continue
+		}
+		queue = append(queue[:0], int32(seed))
+		members = members[:0]
+		seen[seed] = true
+		open, conflict, flipped := false, false, 0
+		for len(queue) > 0 {
+			t := queue[0]
+			queue = queue[1:]
+			members = append(members, t)
+			if p.flip[t] {
+				flipped++
+			}
+			for s := range int32(3) {
+				u := nb[3*t+s]
+				if u < 0 {
+					if !meshSideCollapsed(m.Triangles[t], s) && !meshSideShared(p.edges, m.Triangles[t], s) {
+						open = true
+					}
+					continue
+				}
+				want := p.flip[t] != same[3*t+s]
+				if !seen[u] {
+					seen[u] = true
+					p.flip[u] = want
+					queue = append(queue, u)
+				} else if p.flip[u] != want {
+					conflict = true
+				}
+			}
+		}
+		if conflict {
+			badShell[p.shell[seed]] = true
+		}
+		switch {
+		case !open && !conflict:
+			sealed = append(sealed, meshNewPatch(m, p.flip, members))
+		case 2*flipped > len(members):
+			for _, t := range members {
+				p.flip[t] = !p.flip[t]
+			}
+		}
+	}
+	p.inconsistentShells = len(badShell)
+	meshOrientSealed(m, p.flip, sealed)
+	return p
+}
+
+// meshSideCollapsed reports whether side s of t joins two equal indices.
+func meshSideCollapsed(t [3]int32, s int32) bool { return t[s] == t[(s+1)%3] }
+
+// meshSideShared reports whether side s of t belongs to an edge used by more
+// than two facets (a non-manifold edge, which does not open a patch).
+func meshSideShared(e *meshEdges, t [3]int32, s int32) bool {
+	a, b := t[s], t[(s+1)%3]
+	lo, hi := min(a, b), max(a, b)
+	n := 0
+	for _, u := range e.uses[e.start[lo]:e.start[lo+1]] {
+		if u.hi == hi {
+			n++
+		}
+	}
+	return n > 2
+}
+
+// meshPatch is a sealed, consistently wound patch of facets.
+type meshPatch struct {
+	tris   []int32
+	lo, hi r3.Vec  // bounding box
+	probe  r3.Vec  // a point on the patch (centroid of its first facet)
+	volume float64 // signed volume with the planned flips
+}
+
+func meshNewPatch(m *Mesh, flip []bool, members []int32) meshPatch {
+	pt := meshPatch{tris: append([]int32(nil), members...)}
+	first := true
+	for _, t := range members {
+		tr := m.Triangles[t]
+		a, b, c := m.Vertices[tr[0]], m.Vertices[tr[1]], m.Vertices[tr[2]]
+		if flip[t] {
+			b, c = c, b
+		}
+		pt.volume += r3.Dot(a, r3.Cross(b, c)) / 6
+		for _, v := range [3]r3.Vec{a, b, c} {
+			if first {
+				pt.lo, pt.hi, first = v, v, false
+			}
+			pt.lo = r3.Vec{X: math.Min(pt.lo.X, v.X), Y: math.Min(pt.lo.Y, v.Y), Z: math.Min(pt.lo.Z, v.Z)}
+			pt.hi = r3.Vec{X: math.Max(pt.hi.X, v.X), Y: math.Max(pt.hi.Y, v.Y), Z: math.Max(pt.hi.Z, v.Z)}
+		}
+	}
+	tr := m.Triangles[members[0]]
+	pt.probe = r3.Scale(1.0/3, r3.Add(m.Vertices[tr[0]], r3.Add(m.Vertices[tr[1]], m.Vertices[tr[2]])))
+	return pt
+}
+
+// meshOrientSealed flips whole sealed patches so that outer boundaries
+// enclose positive volume and cavity walls negative volume.
+func meshOrientSealed(m *Mesh, flip []bool, sealed []meshPatch) {
+	for i := range sealed {
+		pi := &sealed[i]
+		if pi.volume == 0 {
+			continue
+		}
+		depth := 0
+		for j := range sealed {
+			pj := &sealed[j]
+			if j == i || !meshBoxContains(pj.lo, pj.hi, pi.probe) {
+				continue
+			}
+			if math.Abs(meshWindingNumber(m, flip, pj.tris, pi.probe)) > 0.5 {
+				depth++
+			}
+		}
+		if (pi.volume < 0) == (depth%2 == 0) {
+			for _, t := range pi.tris {
+				flip[t] = !flip[t]
+			}
+		}
+	}
+}
+
+func meshBoxContains(lo, hi, p r3.Vec) bool {
+	return p.X >= lo.X && p.X <= hi.X && p.Y >= lo.Y && p.Y <= hi.Y && p.Z >= lo.Z && p.Z <= hi.Z
+}
+
+// meshWindingNumber returns the generalised winding number of the facets
+// tris at q: the sum of their signed solid angles over 4 pi (Jacobson et
+// al. 2013), each solid angle by Van Oosterom & Strackee (1983).
+func meshWindingNumber(m *Mesh, flip []bool, tris []int32, q r3.Vec) float64 {
+	var s float64
+	for _, t := range tris {
+		tr := m.Triangles[t]
+		a, b, c := r3.Sub(m.Vertices[tr[0]], q), r3.Sub(m.Vertices[tr[1]], q), r3.Sub(m.Vertices[tr[2]], q)
+		if flip[t] {
+			b, c = c, b
+		}
+		la, lb, lc := r3.Norm(a), r3.Norm(b), r3.Norm(c)
+		num := r3.Dot(a, r3.Cross(b, c))
+		den := la*lb*lc + r3.Dot(a, b)*lc + r3.Dot(a, c)*lb + r3.Dot(b, c)*la
+		s += 2 * math.Atan2(num, den)
+	}
+	return s / (4 * math.Pi)
+}
