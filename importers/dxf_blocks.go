@@ -1,0 +1,67 @@
+package importers
+
+import (
+	"fmt"
+	"slices"
+	"strings"
+
+	"gonum.org/v1/gonum/spatial/r2"
+)
+
+// insert expands INSERT or MINSERT e, whose object coordinates map to the
+// world by xf. A block point p lands at
+//
+//	ins + R(rot) (offset(col, row) + S (p - base))
+//
+// with S = diag(41, 42) (a negative factor mirrors), R the rotation by group
+// 50, base the block's base point and offset (col*44, row*45) the MINSERT
+// array step, which rotates with the insert but is not scaled (DXF
+// reference, INSERT groups; the array convention from memory).
+func (em *dxfEmitter) insert(e *dxfEntity, xf dxfXform, layer, via string, depth int) error {
+	key := strings.ToUpper(e.block)
+	b, ok := em.f.blocks[key]
+	if !ok {
+		return em.fail(e, fmt.Sprintf("inserts block %q, which the BLOCKS section does not define", e.block),
+			"the file is damaged or was exported without its blocks; export it again")
+	}
+	if b.xref {
+		return em.fail(e, fmt.Sprintf("inserts block %q, an external reference whose geometry is in another file", e.block),
+			"bind the external reference in your CAD program (Bind / XBIND) and save the DXF again")
+	}
+	if i := slices.Index(em.stack, key); i >= 0 {
+		chain := append(slices.Clone(em.stack[i:]), key)
+		return em.fail(e, fmt.Sprintf("block %q inserts itself (%s)", e.block, strings.Join(chain, " -> ")),
+			"a block cannot contain itself; remove the recursive INSERT in your CAD program")
+	}
+	if depth+1 > em.opts.maxDepth() {
+		return em.fail(e, fmt.Sprintf("block inserts are nested deeper than %d levels", em.opts.maxDepth()),
+			"explode some of the nested blocks, or raise the nesting limit")
+	}
+	if e.scale.X == 0 || e.scale.Y == 0 {
+		em.warn(fmt.Sprintf("%s%s: block %q is inserted with a zero scale factor and draws nothing; skipped",
+			e.where(), via, e.block))
+		return nil
+	}
+	place := xf.then(dxfTranslate(e.center)).then(dxfRotate(e.rot))
+	shape := dxfXform{a: e.scale.X, e: e.scale.Y}.then(dxfTranslate(r2.Scale(-1, b.base)))
+	inner := fmt.Sprintf(" in block %s inserted at line %d", b.name, e.line) + via
+	em.stack = append(em.stack, key)
+	defer func() { em.stack = em.stack[:len(em.stack)-1] }()
+	for row := range e.rows {
+		for col := range e.cols {
+			off := dxfTranslate(r2.Vec{X: float64(col) * e.colSp, Y: float64(row) * e.rowSp})
+			child := place.then(off).then(shape)
+			for _, be := range b.entities {
+				if err := em.emit(be, child, layer, inner, depth+1); err != nil {
+					return err
+				}
+			}
+			em.instances++
+			if em.instances > dxfMaxInstances {
+				return em.fail(e, fmt.Sprintf("block inserts expand to more than %d entities", dxfMaxInstances),
+					"explode or simplify the nested block arrays in your CAD program")
+			}
+		}
+	}
+	return nil
+}
