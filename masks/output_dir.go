@@ -1,0 +1,242 @@
+package masks
+
+import (
+	"bufio"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+)
+
+// File names inside an output folder.
+const (
+	ManifestFile = "manifest.json"
+	VTIFile      = "mask.vti"
+	ZarrDir      = "mask.zarr"
+)
+
+// WriteFileAtomic creates or replaces the file at path with what write
+// produces. write gets a buffered writer on a temporary file in the same
+// directory; only when write returns nil and the data are flushed, synced and
+// closed is the temporary file renamed over path. On any error the
+// temporary file is removed and a previous file at path is left untouched,
+// so an interrupted or failed run never leaves a half-written file. The
+// file gets mode 0644 (before umask).
+func WriteFileAtomic(path string, write func(io.Writer) error) (err error) {
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	tmp, err := os.CreateTemp(dir, "."+base+".tmp-*")
+	if err != nil {
+		return err
+	}
+	defer func() {
+		if err != nil {
+			tmp.Close()
+			os.Remove(tmp.Name())
+		}
+	}()
+	bw := bufio.NewWriterSize(tmp, 1<<20)
+	if err = write(bw); err != nil {
+		return err
+	}
+	if err = bw.Flush(); err != nil {
+		return err
+	}
+	if err = tmp.Chmod(0o644); err != nil {
+		return err
+	}
+	if err = tmp.Sync(); err != nil {
+		return err
+	}
+	if err = tmp.Close(); err != nil {
+		return err
+	}
+	return os.Rename(tmp.Name(), path)
+}
+
+// outFormats checks formats and returns the set, defaulting to vti and npy.
+func outFormats(formats []string) (map[string]bool, error) {
+	if len(formats) == 0 {
+		formats = []string{"vti", "npy"}
+	}
+	set := map[string]bool{}
+	for _, f := range formats {
+		switch f {
+		case "vti", "npy", "zarr":
+			set[f] = true
+		default:
+			return nil, fmt.Errorf("output format %q, want vti, npy or zarr", f)
+		}
+	}
+	return set, nil
+}
+
+// outCheckName refuses a field name that cannot be a file stem on every
+// common file system, or that could escape the output folder.
+func outCheckName(name string) error {
+	if name == "" || name[0] == '.' || len(name) > 200 {
+		return fmt.Errorf("field name %q: want 1 to 200 characters, not starting with '.'", name)
+	}
+	for _, c := range name {
+		if !(c == '_' || c == '-' || c == '.' || ('0' <= c && c <= '9') || ('a' <= c && c <= 'z') || ('A' <= c && c <= 'Z')) {
+			return fmt.Errorf("field name %q: only letters, digits, '_', '-' and '.' are allowed", name)
+		}
+	}
+	return nil
+}
+
+// WriteDir writes a mask into dir (created if missing): one <field>.npy per
+// field (format "npy"), mask.vti ("vti"), mask.zarr ("zarr", with default
+// ZarrOptions) and manifest.json, in that order, each through a temporary
+// file renamed into place, so that a present manifest means every file it
+// names is complete. formats is a subset of "vti", "npy", "zarr"; nil or
+// empty means vti and npy.
+//
+// The manifest written is a copy of man (NewManifest(m, Provenance{}) when
+// man is nil) whose grid, fields and files entries are regenerated from m and
+// formats, so it always describes exactly what was written; its other
+// entries are kept. Files of earlier runs that this run does not rewrite
+// (a field since dropped) are left in place. Field names must be usable as
+// file names (letters, digits, '_', '-', '.') and unique.
+func WriteDir(dir string, m *Mask, man *Manifest, formats []string) error {
+	set, err := outFormats(formats)
+	if err != nil {
+		return err
+	}
+	if err := m.Grid.Validate(); err != nil {
+		return err
+	}
+	seen := map[string]bool{}
+	for _, f := range m.Fields {
+		if err := npyCheckField(m.Grid, f); err != nil {
+			return err
+		}
+		if err := outCheckName(f.Name); err != nil {
+			return err
+		}
+		if seen[f.Name] {
+			return fmt.Errorf("two fields are called %q", f.Name)
+		}
+		seen[f.Name] = true
+	}
+	if man == nil {
+		man = NewManifest(m, Provenance{})
+	}
+	fresh := NewManifest(m, man.Provenance)
+	c := *man
+	c.Format, c.FormatVersion = ManifestFormat, ManifestVersion
+	c.Grid, c.Fields, c.Files = fresh.Grid, fresh.Fields, ManifestFiles{}
+	if c.Surfaces == nil {
+		c.Surfaces = fresh.Surfaces
+	}
+	if c.Materials == nil {
+		c.Materials = fresh.Materials
+	}
+	if !set["npy"] {
+		for i := range c.Fields {
+			c.Fields[i].File = ""
+		}
+	}
+	if set["vti"] {
+		c.Files.VTI = VTIFile
+	}
+	if set["zarr"] {
+		c.Files.Zarr = ZarrDir
+	}
+
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	if set["npy"] {
+		for _, f := range m.Fields {
+			if err := WriteFileAtomic(filepath.Join(dir, f.Name+".npy"), func(w io.Writer) error { return WriteNPY(w, m.Grid, f) }); err != nil {
+				return fmt.Errorf("writing %s.npy: %w", f.Name, err)
+			}
+		}
+	}
+	if set["vti"] {
+		if err := WriteFileAtomic(filepath.Join(dir, VTIFile), func(w io.Writer) error { return WriteVTI(w, m, VTIOptions{}) }); err != nil {
+			return fmt.Errorf("writing %s: %w", VTIFile, err)
+		}
+	}
+	if set["zarr"] {
+		if err := WriteZarr(filepath.Join(dir, ZarrDir), m, &c, ZarrOptions{}); err != nil {
+			return fmt.Errorf("writing %s: %w", ZarrDir, err)
+		}
+	}
+	if err := WriteFileAtomic(filepath.Join(dir, ManifestFile), func(w io.Writer) error { return WriteManifest(w, &c) }); err != nil {
+		return fmt.Errorf("writing %s: %w", ManifestFile, err)
+	}
+	return nil
+}
+
+// ReadDir reads a folder written by WriteDir: the manifest and every field's
+// .npy file, each checked against the manifest's dtype and shape. It returns
+// the mask (fields in manifest order with their units and meanings, the
+// surfaces and materials tables) and the manifest. A missing or broken file,
+// a field written without .npy, or a file name that would leave the folder
+// gives a *ReadError naming the file.
+func ReadDir(dir string) (*Mask, *Manifest, error) {
+	mpath := filepath.Join(dir, ManifestFile)
+	mf, err := os.Open(mpath)
+	if err != nil {
+		if errors.Is(err, os.ErrNotExist) {
+			return nil, nil, &ReadError{File: mpath, Offset: -1, What: "no manifest.json in the folder", Hint: "give the folder a chimask build wrote"}
+		}
+		return nil, nil, err
+	}
+	man, err := manRead(mf, mpath)
+	mf.Close()
+	if err != nil {
+		return nil, nil, err
+	}
+	g, _ := man.GridOf() // manRead validated it
+	m := &Mask{Grid: g, Surfaces: man.Surfaces, Materials: man.Materials}
+	for _, mfld := range man.Fields {
+		f, err := outReadField(dir, mpath, g, mfld)
+		if err != nil {
+			return nil, nil, err
+		}
+		m.Fields = append(m.Fields, f)
+	}
+	return m, man, nil
+}
+
+// outReadField reads one field's .npy file and checks it against its
+// manifest entry.
+func outReadField(dir, mpath string, g Grid, mfld ManifestField) (*Field, error) {
+	if mfld.File == "" {
+		return nil, &ReadError{File: mpath, Offset: -1, What: fmt.Sprintf("field %q was written without a .npy file", mfld.Name),
+			Hint: "rebuild the mask with the npy output format"}
+	}
+	if filepath.Base(mfld.File) != mfld.File || strings.HasPrefix(mfld.File, ".") || strings.ContainsAny(mfld.File, `/\`) {
+		return nil, &ReadError{File: mpath, Offset: -1, What: fmt.Sprintf("field %q names the file %q, want a plain file name inside the folder", mfld.Name, mfld.File),
+			Hint: "the manifest was edited or is corrupt; rebuild the mask"}
+	}
+	path := filepath.Join(dir, mfld.File)
+	fh, err := os.Open(path)
+	if err != nil {
+		if errors.Is(err, os.ErrNotExist) {
+			return nil, &ReadError{File: path, Offset: -1, What: fmt.Sprintf("the manifest lists %s but the file is missing", mfld.File), Hint: "rebuild the mask"}
+		}
+		return nil, err
+	}
+	defer fh.Close()
+	shape, f, err := npyRead(bufio.NewReaderSize(fh, 1<<16), path)
+	if err != nil {
+		return nil, err
+	}
+	dt, _ := npyDTypeOf(mfld.DType)
+	if f.DType != dt || !slices.Equal(shape, mfld.Shape) {
+		return nil, &ReadError{File: path, Offset: -1,
+			What: fmt.Sprintf("array is %s with shape %v, the manifest says %s with shape %v", npyDescr(f.DType), shape, mfld.DType, mfld.Shape),
+			Hint: "the file was replaced after the build; rebuild the mask"}
+	}
+	f.Name, f.Unit, f.Meaning, f.Components = mfld.Name, mfld.Unit, mfld.Meaning, mfld.Components
+	return f, nil
+}
