@@ -1,0 +1,493 @@
+package importers
+
+import (
+	"cmp"
+	"fmt"
+	"hash/fnv"
+	"math"
+	"slices"
+	"strings"
+
+	"gonum.org/v1/gonum/spatial/r2"
+)
+
+// asmLoop is a closed loop during assembly: vertices with per-edge surface
+// and source polyline (edge i runs from pts[i] to pts[(i+1)%n]).
+type asmLoop struct {
+	pts   []r2.Vec
+	surf  []int   // global surface index per edge
+	ref   []int32 // source polyline (index into asmState.refs) per edge
+	group int     // global fill group
+	area  float64 // signed, as drawn
+	lo    r2.Vec
+	hi    r2.Vec
+}
+
+// asmPiece is an open polyline waiting to be chained.
+type asmPiece struct {
+	ref int32
+	pts []r2.Vec // at least two points, no exact repeats in a row
+}
+
+// asmCell is a hash-grid cell.
+type asmCell struct{ x, y int64 }
+
+// asmGrid is a hash grid of points with square cells, for finding every
+// point within the cell size of a query in O(1) on ordinary drawings.
+type asmGrid struct {
+	h    float64
+	head map[asmCell]int32 // first point in the cell, -1 terminated list via next
+	next []int32
+	pts  []r2.Vec
+}
+
+// asmNewGrid indexes pts with cells of size h. h is raised to a few ulps of
+// the largest coordinate so that cell indices stay within int64.
+func asmNewGrid(pts []r2.Vec, h, maxAbs float64) *asmGrid {
+	h = max(h, maxAbs*1e-15, math.SmallestNonzeroFloat64*1e10)
+	g := &asmGrid{h: h, head: make(map[asmCell]int32, len(pts)), next: make([]int32, len(pts)), pts: pts}
+	for i := len(pts) - 1; i >= 0; i-- {
+		c := g.cell(pts[i])
+		if j, ok := g.head[c]; ok {
+			g.next[i] = j
+		} else {
+			g.next[i] = -1
+		}
+		g.head[c] = int32(i)
+	}
+	return g
+}
+
+func (g *asmGrid) cell(p r2.Vec) asmCell {
+	return asmCell{int64(math.Floor(p.X / g.h)), int64(math.Floor(p.Y / g.h))}
+}
+
+// near calls f for every indexed point within the 3x3 cells around p, in
+// increasing index order within each cell.
+func (g *asmGrid) near(p r2.Vec, f func(i int)) {
+	c := g.cell(p)
+	for dx := int64(-1); dx <= 1; dx++ {
+		for dy := int64(-1); dy <= 1; dy++ {
+			j, ok := g.head[asmCell{c.x + dx, c.y + dy}]
+			for ok && j >= 0 {
+				f(int(j))
+				j = g.next[j]
+			}
+		}
+	}
+}
+
+// asmDedupe returns pts without exact repeated neighbours; for a closed
+// polyline also without trailing copies of the first point.
+func asmDedupe(pts []r2.Vec, closed bool) []r2.Vec {
+	out := make([]r2.Vec, 0, len(pts))
+	for _, p := range pts {
+		if len(out) > 0 && out[len(out)-1] == p {
+			continue
+		}
+		out = append(out, p)
+	}
+	for closed && len(out) > 1 && out[len(out)-1] == out[0] {
+		out = out[:len(out)-1]
+	}
+	return out
+}
+
+func asmCmpVec(a, b r2.Vec) int {
+	if c := cmp.Compare(a.X, b.X); c != 0 {
+		return c
+	}
+	return cmp.Compare(a.Y, b.Y)
+}
+
+// asmCanonical returns the points of a polyline in a form that is equal for
+// exact duplicates whatever their direction (and, when closed, starting
+// vertex): the lexicographically smallest of the readings.
+func asmCanonical(pts []r2.Vec, closed bool) []r2.Vec {
+	n := len(pts)
+	out := make([]r2.Vec, n)
+	if !closed {
+		rev := false
+		for i := range n {
+			if c := asmCmpVec(pts[i], pts[n-1-i]); c != 0 {
+				rev = c > 0
+				break
+			}
+		}
+		for i := range n {
+			if rev {
+				out[i] = pts[n-1-i]
+			} else {
+				out[i] = pts[i]
+			}
+		}
+		return out
+	}
+	m := 0
+	for i := 1; i < n; i++ {
+		if asmCmpVec(pts[i], pts[m]) < 0 {
+			m = i
+		}
+	}
+	back := false
+	for k := 1; k < n; k++ {
+		if c := asmCmpVec(pts[(m+k)%n], pts[(m-k+n)%n]); c != 0 {
+			back = c > 0
+			break
+		}
+	}
+	for k := range n {
+		if back {
+			out[k] = pts[(m-k+n)%n]
+		} else {
+			out[k] = pts[(m+k)%n]
+		}
+	}
+	return out
+}
+
+func asmHash(pts []r2.Vec, closed bool) uint64 {
+	h := fnv.New64a()
+	var b [16]byte
+	if closed {
+		h.Write([]byte{1})
+	}
+	for _, p := range pts {
+		x, y := math.Float64bits(p.X+0), math.Float64bits(p.Y+0) // +0 folds -0 into 0
+		for i := range 8 {
+			b[i], b[8+i] = byte(x>>(8*i)), byte(y>>(8*i))
+		}
+		h.Write(b[:])
+	}
+	return h.Sum64()
+}
+
+// prepare removes exact repeated vertices, drops exact duplicate polylines
+// and zero-length pieces with a warning, and splits the rest into open
+// pieces and closed loops.
+func (s *asmState) prepare() ([]asmPiece, []asmLoop) {
+	var pieces []asmPiece
+	var loops []asmLoop
+	seen := map[uint64][]int{}
+	canon := map[int][]r2.Vec{}
+	for ri := range s.refs {
+		r := &s.refs[ri]
+		pts := asmDedupe(r.pl.Points, r.pl.Closed)
+		if len(pts) < 2 {
+			s.warnings = append(s.warnings, fmt.Sprintf("%s has zero length; ignored", s.describe(ri)))
+			continue
+		}
+		c := asmCanonical(pts, r.pl.Closed)
+		key := asmHash(c, r.pl.Closed)
+		dup := -1
+		for _, o := range seen[key] {
+			if s.refs[o].pl.Closed == r.pl.Closed && slices.Equal(canon[o], c) {
+				dup = o
+				break
+			}
+		}
+		if dup >= 0 {
+			s.warnings = append(s.warnings, fmt.Sprintf("%s is an exact duplicate of %s; dropped", s.describe(ri), s.describe(dup)))
+			continue
+		}
+		seen[key] = append(seen[key], ri)
+		canon[ri] = c
+		if !r.pl.Closed {
+			pieces = append(pieces, asmPiece{ref: int32(ri), pts: pts})
+			continue
+		}
+		l := asmLoop{pts: pts, surf: make([]int, len(pts)), ref: make([]int32, len(pts)), group: r.group}
+		for i := range pts {
+			l.surf[i], l.ref[i] = r.surf, int32(ri)
+		}
+		loops = append(loops, l)
+	}
+	return pieces, loops
+}
+
+// chain joins open pieces whose ends lie within the tolerance into loops and
+// reports the ends that do not close: open ends, gaps and branches.
+// Ends are clustered with a hash grid and union-find, so the cost is linear
+// in the number of pieces on ordinary drawings.
+func (s *asmState) chain(pieces []asmPiece) []asmLoop {
+	n := len(pieces)
+	if n == 0 {
+		return nil
+	}
+	ends := make([]r2.Vec, 2*n) // end e: piece e/2, start when e is even
+	for i, pc := range pieces {
+		ends[2*i], ends[2*i+1] = pc.pts[0], pc.pts[len(pc.pts)-1]
+	}
+	parent := make([]int32, 2*n)
+	for i := range parent {
+		parent[i] = int32(i)
+	}
+	find := func(e int) int {
+		for int(parent[e]) != e {
+			parent[e] = parent[parent[e]]
+			e = int(parent[e])
+		}
+		return e
+	}
+	g := asmNewGrid(ends, s.tol, s.maxAbs)
+	tol2 := s.tol * s.tol
+	for e := range ends {
+		g.near(ends[e], func(f int) {
+			if f <= e {
+				return
+			}
+			d := r2.Sub(ends[e], ends[f])
+			if d.X*d.X+d.Y*d.Y > tol2 {
+				return
+			}
+			a, b := find(e), find(f)
+			if a != b { // the smaller end index stays root, so the root is the first end in file order
+				parent[max(a, b)] = int32(min(a, b))
+			}
+		})
+	}
+	root := make([]int32, 2*n)
+	deg := make([]int32, 2*n)
+	other := make([]int32, 2*n) // for degree-2 clusters: the other end
+	first := make([]int32, 2*n)
+	for i := range first {
+		first[i] = -1
+	}
+	for e := range ends {
+		r := find(e)
+		root[e] = int32(r)
+		deg[r]++
+		if first[r] < 0 {
+			first[r] = int32(e)
+		} else {
+			other[e], other[first[r]] = first[r], int32(e)
+		}
+	}
+	rep := func(e int) r2.Vec { return ends[root[e]] }
+
+	visited := make([]bool, n)
+	var loops []asmLoop
+	var cur asmLoop
+	// walk follows the chain entering piece e/2 at end e; it returns true
+	// when the chain closed on itself.
+	walk := func(e int) bool {
+		cur = asmLoop{group: s.refs[pieces[e/2].ref].group}
+		start := e
+		for {
+			pi := e / 2
+			visited[pi] = true
+			pc := pieces[pi]
+			r := s.refs[pc.ref]
+			m := len(pc.pts)
+			if len(cur.pts) == 0 {
+				cur.pts = append(cur.pts, rep(e))
+			}
+			for k := 1; k < m-1; k++ {
+				if e%2 == 0 {
+					cur.pts = append(cur.pts, pc.pts[k])
+				} else {
+					cur.pts = append(cur.pts, pc.pts[m-1-k])
+				}
+			}
+			exit := e ^ 1
+			cur.pts = append(cur.pts, rep(exit))
+			for range m - 1 {
+				cur.surf = append(cur.surf, r.surf)
+				cur.ref = append(cur.ref, pc.ref)
+			}
+			if deg[root[exit]] != 2 {
+				return false
+			}
+			nxt := int(other[exit])
+			if nxt == start {
+				return true
+			}
+			if visited[nxt/2] {
+				return false // cannot happen with degree-2 joints; stop safely
+			}
+			e = nxt
+		}
+	}
+	// Chains from ends that are not joints (open ends, branches) first: they
+	// cannot close. Branch clusters are reported once, here.
+	for e := range ends {
+		r := int(root[e])
+		if deg[r] == 2 {
+			continue
+		}
+		if deg[r] >= 3 && r == e {
+			s.reportBranch(r, ends, root, pieces)
+		}
+		if !visited[e/2] {
+			walk(e)
+		}
+	}
+	// Everything left runs through joints only and closes. Starting at the
+	// first piece in file order keeps the direction that piece was drawn in.
+	mixed := 0
+	for i := range pieces {
+		if visited[i] {
+			continue
+		}
+		if !walk(2 * i) {
+			continue
+		}
+		cur.pts = cur.pts[:len(cur.pts)-1] // the last point is the first again
+		for _, rf := range cur.ref {
+			if s.refs[rf].group != cur.group {
+				mixed++
+				break
+			}
+		}
+		loops = append(loops, asmClean(cur))
+	}
+	if mixed > 0 {
+		s.warnings = append(s.warnings, fmt.Sprintf("%d chained loops join pieces of different fill groups; each takes the fill rule of its first piece", mixed))
+	}
+	s.reportOpenEnds(ends, deg, root, pieces)
+	return loops
+}
+
+// reportBranch reports a cluster where three or more ends meet.
+func (s *asmState) reportBranch(r int, ends []r2.Vec, root []int32, pieces []asmPiece) {
+	var who []string
+	firstRef := -1
+	for e := r; e < len(ends); e++ {
+		if int(root[e]) != r {
+			continue
+		}
+		ref := int(pieces[e/2].ref)
+		if firstRef < 0 {
+			firstRef = ref
+		}
+		if len(who) < 6 {
+			who = append(who, s.describe(ref))
+		}
+	}
+	n := 0
+	for e := r; e < len(ends); e++ {
+		if int(root[e]) == r {
+			n++
+		}
+	}
+	detail := fmt.Sprintf("%d ends meet: %s", n, strings.Join(who, ", "))
+	if n > len(who) {
+		detail += ", ..."
+	}
+	s.problem(ProblemBranch, ends[r], firstRef, detail)
+}
+
+// reportOpenEnds reports every end that meets no other: a gap when another
+// open end lies within asmGapFactor x tolerance (each pair once), else an
+// open end.
+func (s *asmState) reportOpenEnds(ends []r2.Vec, deg, root []int32, pieces []asmPiece) {
+	var open []int
+	for e := range ends {
+		if deg[root[e]] == 1 {
+			open = append(open, e)
+		}
+	}
+	if len(open) == 0 {
+		return
+	}
+	pts := make([]r2.Vec, len(open))
+	for i, e := range open {
+		pts[i] = ends[e]
+	}
+	reach := asmGapFactor * s.tol
+	g := asmNewGrid(pts, reach, s.maxAbs)
+	nearest := make([]int, len(open))
+	dist := make([]float64, len(open))
+	for i := range open {
+		nearest[i], dist[i] = -1, math.Inf(1)
+		g.near(pts[i], func(j int) {
+			if j == i {
+				return
+			}
+			if d := r2.Norm(r2.Sub(pts[i], pts[j])); d <= reach && d < dist[i] {
+				nearest[i], dist[i] = j, d
+			}
+		})
+	}
+	for i, e := range open {
+		ref := int(pieces[e/2].ref)
+		j := nearest[i]
+		if j < 0 {
+			s.problem(ProblemOpenEnd, pts[i], ref, fmt.Sprintf("end of %s meets no other end within %s", s.describe(ref), asmLength(reach)))
+			continue
+		}
+		if nearest[j] == i && j < i {
+			continue // the pair was reported from j
+		}
+		oref := int(pieces[open[j]/2].ref)
+		s.problem(ProblemGap, pts[i], ref, fmt.Sprintf("gap of %s to the end of %s at (%.9g, %.9g) m; join tolerance %s",
+			asmLength(dist[i]), s.describe(oref), pts[j].X, pts[j].Y, asmLength(s.tol)))
+	}
+}
+
+// asmClean removes the zero-length edges a join can leave (exactly repeated
+// vertices), keeping the surface of the edge that follows.
+func asmClean(l asmLoop) asmLoop {
+	n := len(l.pts)
+	out := asmLoop{group: l.group, pts: l.pts[:0:0], surf: l.surf[:0:0], ref: l.ref[:0:0]}
+	for i := range n {
+		if k := len(out.pts); k > 0 && out.pts[k-1] == l.pts[i] {
+			out.surf[k-1], out.ref[k-1] = l.surf[i], l.ref[i]
+			continue
+		}
+		out.pts = append(out.pts, l.pts[i])
+		out.surf = append(out.surf, l.surf[i])
+		out.ref = append(out.ref, l.ref[i])
+	}
+	for k := len(out.pts); k > 1 && out.pts[k-1] == out.pts[0]; k-- {
+		out.pts, out.surf, out.ref = out.pts[:k-1], out.surf[:k-1], out.ref[:k-1]
+	}
+	return out
+}
+
+// dropDegenerate measures the loops and reports and drops those with fewer
+// than three vertices or all vertices within the tolerance of one line. (The
+// signed area is no test: a figure-eight has none but is a self-intersection.)
+func (s *asmState) dropDegenerate(loops []asmLoop) []asmLoop {
+	out := loops[:0]
+	for _, l := range loops {
+		n := len(l.pts)
+		var a2 float64
+		l.lo, l.hi = l.pts[0], l.pts[0]
+		for i := range n {
+			p, q := l.pts[i], l.pts[(i+1)%n]
+			a2 += p.X*q.Y - q.X*p.Y
+			l.lo.X, l.lo.Y = min(l.lo.X, p.X), min(l.lo.Y, p.Y)
+			l.hi.X, l.hi.Y = max(l.hi.X, p.X), max(l.hi.Y, p.Y)
+		}
+		l.area = a2 / 2
+		if n < 3 || asmFlat(l.pts, s.tol) {
+			s.problem(ProblemDegenerateLoop, l.pts[0], int(l.ref[0]),
+				fmt.Sprintf("closed loop of %s with %d vertices encloses no area (%.3g m²); dropped", s.describe(int(l.ref[0])), n, math.Abs(l.area)))
+			continue
+		}
+		out = append(out, l)
+	}
+	return out
+}
+
+// asmFlat reports whether every vertex lies within tol of the line through
+// pts[0] and the vertex farthest from it: a loop that encloses no area.
+func asmFlat(pts []r2.Vec, tol float64) bool {
+	far, fd := pts[0], 0.0
+	for _, p := range pts {
+		if d := r2.Norm(r2.Sub(p, pts[0])); d > fd {
+			far, fd = p, d
+		}
+	}
+	if fd == 0 {
+		return true
+	}
+	u := r2.Scale(1/fd, r2.Sub(far, pts[0]))
+	for _, p := range pts {
+		if d := r2.Sub(p, pts[0]); math.Abs(u.X*d.Y-u.Y*d.X) > tol {
+			return false
+		}
+	}
+	return true
+}

@@ -1,0 +1,581 @@
+package importers
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/spatial/r2"
+)
+
+// asmTestDrawing builds a DXF-like drawing (one even-odd group unless rules
+// say otherwise) and numbers the source lines 10, 20, ... where unset.
+func asmTestDrawing(rules []FillRule, pls ...Polyline) *Drawing {
+	if rules == nil {
+		rules = []FillRule{EvenOdd}
+	}
+	for i := range pls {
+		if pls[i].Line == 0 {
+			pls[i].Line = 10 * (i + 1)
+		}
+		if pls[i].Where == "" {
+			pls[i].Where = fmt.Sprintf("line %d", pls[i].Line)
+		}
+	}
+	return &Drawing{File: "test.dxf", Format: "dxf", Polylines: pls, FillRules: rules, Unit: "m"}
+}
+
+func asmV(x, y float64) r2.Vec { return r2.Vec{X: x, Y: y} }
+
+// asmRect returns a closed rectangle, counter-clockwise unless cw.
+func asmRect(x0, y0, x1, y1 float64, cw bool, surface string) Polyline {
+	pts := []r2.Vec{asmV(x0, y0), asmV(x1, y0), asmV(x1, y1), asmV(x0, y1)}
+	if cw {
+		slices.Reverse(pts)
+	}
+	return Polyline{Points: pts, Closed: true, Surface: surface}
+}
+
+// asmCircle returns a closed regular n-gon with circumradius r.
+func asmCircle(cx, cy, r float64, n int, cw bool, surface string) Polyline {
+	pts := make([]r2.Vec, n)
+	for i := range pts {
+		t := 2 * math.Pi * float64(i) / float64(n)
+		if cw {
+			t = -t
+		}
+		pts[i] = asmV(cx+r*math.Cos(t), cy+r*math.Sin(t))
+	}
+	return Polyline{Points: pts, Closed: true, Surface: surface}
+}
+
+// asmSoup breaks closed polylines into LINE pieces, the way many DXF files
+// store outlines.
+func asmSoup(pls ...Polyline) []Polyline {
+	var out []Polyline
+	for _, p := range pls {
+		n := len(p.Points)
+		for i := range n {
+			out = append(out, Polyline{Points: []r2.Vec{p.Points[i], p.Points[(i+1)%n]}, Surface: p.Surface, Group: p.Group})
+		}
+	}
+	return out
+}
+
+// asmNgonArea is the area of a regular n-gon of circumradius r.
+// CHECKS.md F1: A = (n/2) R^2 sin(2 pi/n), verified numerically (shapely).
+func asmNgonArea(r float64, n int) float64 {
+	return float64(n) / 2 * r * r * math.Sin(2*math.Pi/float64(n))
+}
+
+// asmWinding is the winding number of the outline around p, counted with a
+// plain ray cast independent of the code under test.
+func asmWinding(o *Outline, p r2.Vec) int {
+	w := 0
+	for _, l := range o.Loops {
+		n := len(l.Points)
+		for i := range n {
+			a, b := l.Points[i], l.Points[(i+1)%n]
+			if (a.Y <= p.Y) == (b.Y <= p.Y) {
+				continue
+			}
+			x := a.X + (p.Y-a.Y)*(b.X-a.X)/(b.Y-a.Y)
+			if x > p.X {
+				if b.Y > a.Y {
+					w++
+				} else {
+					w--
+				}
+			}
+		}
+	}
+	return w
+}
+
+// asmCheckOrientation asserts that every loop has solid on its left: just
+// left of a point on each edge the outline winds once, just right not at all.
+func asmCheckOrientation(t *testing.T, o *Outline) {
+	t.Helper()
+	for li, l := range o.Loops {
+		n := len(l.Points)
+		for i := 0; i < n; i += max(1, n/16) {
+			a, b := l.Points[i], l.Points[(i+1)%n]
+			m := r2.Add(a, r2.Scale(0.37, r2.Sub(b, a))) // off-centre, away from symmetric contacts
+			d := r2.Sub(b, a)
+			left := r2.Scale(1e-7/r2.Norm(d), asmV(-d.Y, d.X))
+			if wl, wr := asmWinding(o, r2.Add(m, left)), asmWinding(o, r2.Sub(m, left)); wl != 1 || wr != 0 {
+				t.Errorf("loop %d edge %d: winding left %d, right %d; want 1 and 0 (solid on the left)", li, i, wl, wr)
+				return
+			}
+		}
+	}
+}
+
+func TestAssembleAreas(t *testing.T) {
+	eo, nz := EvenOdd, NonZero
+	for _, tc := range []struct {
+		name          string
+		rules         []FillRule
+		pls           []Polyline
+		area          float64 // exact by the shoelace formula on these rectangles
+		solids, holes int
+		dropped       int
+	}{
+		{"square ccw", nil, []Polyline{asmRect(0, 0, 1, 1, false, "W")}, 1, 1, 0, 0},
+		{"square drawn cw", nil, []Polyline{asmRect(0, 0, 1, 1, true, "W")}, 1, 1, 0, 0},
+		{"rectangle with hole", nil, []Polyline{asmRect(0, 0, 6, 4, false, "W"), asmRect(1, 1, 3, 2, false, "W")}, 24 - 2, 1, 1, 0},
+		{"hole listed first", nil, []Polyline{asmRect(1, 1, 3, 2, true, "W"), asmRect(0, 0, 6, 4, true, "W")}, 22, 1, 1, 0},
+		{"island in hole", nil, []Polyline{asmRect(0, 0, 10, 10, false, "W"), asmRect(2, 2, 8, 8, false, "W"), asmRect(4, 4, 6, 6, true, "W")}, 100 - 36 + 4, 2, 1, 0},
+		{"two holes two bodies", nil, []Polyline{asmRect(0, 0, 4, 4, false, "A"), asmRect(1, 1, 2, 2, false, "A"), asmRect(2.5, 2.5, 3.5, 3.5, true, "A"), asmRect(10, 0, 11, 3, false, "B")}, 16 - 1 - 1 + 3, 2, 2, 0},
+		{"nonzero same orientation", []FillRule{nz}, []Polyline{asmRect(0, 0, 6, 4, false, "W"), asmRect(1, 1, 3, 2, false, "W")}, 24, 1, 0, 1},
+		{"nonzero opposite orientation", []FillRule{nz}, []Polyline{asmRect(0, 0, 6, 4, false, "W"), asmRect(1, 1, 3, 2, true, "W")}, 22, 1, 1, 0},
+		{"nonzero cw outer ccw inner", []FillRule{nz}, []Polyline{asmRect(0, 0, 6, 4, true, "W"), asmRect(1, 1, 3, 2, false, "W")}, 22, 1, 1, 0},
+		{"union across groups, island fills hole", []FillRule{eo, nz}, []Polyline{
+			asmRect(0, 0, 10, 10, false, "W"), asmRect(2, 2, 8, 8, false, "W"),
+			{Points: asmRect(3, 3, 7, 7, true, "").Points, Closed: true, Surface: "I", Group: 1}}, 100 - 36 + 16, 2, 1, 0},
+		{"union across groups, solid inside solid", []FillRule{eo, nz}, []Polyline{
+			asmRect(0, 0, 10, 10, false, "W"),
+			{Points: asmRect(3, 3, 7, 7, false, "").Points, Closed: true, Surface: "I", Group: 1}}, 100, 1, 0, 1},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			o, rep, err := Assemble([]*Drawing{asmTestDrawing(tc.rules, tc.pls...)}, AssembleOptions{})
+			if err != nil {
+				t.Fatalf("Assemble: %v", err)
+			}
+			if got := o.Area(); math.Abs(got-tc.area) > 1e-12*tc.area {
+				t.Errorf("Area() = %.15g, want %.15g", got, tc.area)
+			}
+			if rep.Solids != tc.solids || rep.Holes != tc.holes || rep.Loops-rep.Solids-rep.Holes != tc.dropped {
+				t.Errorf("report loops %d solids %d holes %d, want solids %d holes %d dropped %d", rep.Loops, rep.Solids, rep.Holes, tc.solids, tc.holes, tc.dropped)
+			}
+			if n := strings.Count(strings.Join(rep.Warnings, "\n"), "bounds nothing"); n != tc.dropped {
+				t.Errorf("%d warnings about dropped loops, want %d: %q", n, tc.dropped, rep.Warnings)
+			}
+			for i, l := range o.Loops {
+				if len(l.Surfaces) != len(l.Points) {
+					t.Errorf("loop %d: %d surfaces for %d edges", i, len(l.Surfaces), len(l.Points))
+				}
+			}
+			asmCheckOrientation(t, o)
+		})
+	}
+}
+
+// asmCanonLoops returns each loop as a string starting at its smallest
+// vertex, for comparing outlines regardless of start and order.
+func asmCanonLoops(o *Outline) []string {
+	var out []string
+	for _, l := range o.Loops {
+		c := asmCanonical(l.Points, true)
+		if l.Area() < 0 {
+			c = append(c, asmV(-1, -1)) // keep the orientation in the key
+		}
+		out = append(out, fmt.Sprint(c))
+	}
+	slices.Sort(out)
+	return out
+}
+
+func TestAssembleChainSoup(t *testing.T) {
+	outer := asmCircle(0, 0, 2, 48, false, "W")
+	hole := asmRect(-0.5, -0.5, 0.5, 0.5, false, "W")
+	want, _, err := Assemble([]*Drawing{asmTestDrawing(nil, outer, hole)}, AssembleOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name    string
+		seed    uint64
+		reverse bool
+	}{
+		{"in order", 0, false},
+		{"shuffled", 1, false},
+		{"shuffled and reversed", 2, true},
+		{"shuffled and reversed again", 3, true},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			soup := asmSoup(outer, hole)
+			rng := rand.New(rand.NewPCG(tc.seed, 99))
+			if tc.seed > 0 {
+				rng.Shuffle(len(soup), func(i, j int) { soup[i], soup[j] = soup[j], soup[i] })
+			}
+			for i := range soup {
+				if tc.reverse && rng.IntN(2) == 0 {
+					slices.Reverse(soup[i].Points)
+				}
+			}
+			o, rep, err := Assemble([]*Drawing{asmTestDrawing(nil, soup...)}, AssembleOptions{})
+			if err != nil {
+				t.Fatalf("Assemble: %v", err)
+			}
+			if rep.Loops != 2 || len(rep.Problems) != 0 {
+				t.Errorf("%d loops, problems %v; want 2 and none", rep.Loops, rep.Problems)
+			}
+			// CHECKS.md F1 (regular n-gon area) minus the unit square.
+			if got, w := o.Area(), asmNgonArea(2, 48)-1; math.Abs(got-w) > 1e-12 {
+				t.Errorf("Area() = %.15g, want %.15g", got, w)
+			}
+			if got, w := asmCanonLoops(o), asmCanonLoops(want); !slices.Equal(got, w) {
+				t.Errorf("chained loops differ from the closed polylines:\n got %v\nwant %v", got, w)
+			}
+			asmCheckOrientation(t, o)
+		})
+	}
+}
+
+func TestAssembleMixedSurfaces(t *testing.T) {
+	// A square drawn as four lines on three layers, clockwise and in pieces.
+	d := asmTestDrawing(nil,
+		Polyline{Points: []r2.Vec{asmV(0, 1), asmV(1, 1)}, Surface: "TOP"},
+		Polyline{Points: []r2.Vec{asmV(1, 1), asmV(1, 0)}, Surface: "SIDE"},
+		Polyline{Points: []r2.Vec{asmV(0, 0), asmV(1, 0)}, Surface: "FLOOR"},
+		Polyline{Points: []r2.Vec{asmV(0, 0), asmV(0, 1)}, Surface: "SIDE"},
+		Polyline{Points: asmRect(5, 5, 6, 6, false, "").Points, Closed: true, Surface: "ISLAND"},
+		Polyline{Points: asmRect(5, 5, 6, 6, false, "").Points, Closed: true, Surface: "DUP"},
+	)
+	o, rep, err := Assemble([]*Drawing{d}, AssembleOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := []string{"TOP", "SIDE", "FLOOR", "ISLAND"}; !slices.Equal(o.Surfaces, want) {
+		t.Errorf("Surfaces = %q, want %q (first appearance; the dropped duplicate's surface is not listed)", o.Surfaces, want)
+	}
+	if len(rep.Warnings) != 1 || !strings.Contains(rep.Warnings[0], "exact duplicate") {
+		t.Errorf("warnings %q, want one about the exact duplicate", rep.Warnings)
+	}
+	wantSurf := map[[2]r2.Vec]string{
+		{asmV(0, 0), asmV(1, 0)}: "FLOOR", {asmV(1, 0), asmV(1, 1)}: "SIDE",
+		{asmV(1, 1), asmV(0, 1)}: "TOP", {asmV(0, 1), asmV(0, 0)}: "SIDE",
+	}
+	l := o.Loops[0]
+	if len(l.Points) != 4 || l.Area() != 1 {
+		t.Fatalf("loop %v, want the unit square counter-clockwise", l.Points)
+	}
+	for i := range l.Points {
+		e := [2]r2.Vec{l.Points[i], l.Points[(i+1)%4]}
+		if got := o.Surfaces[l.Surfaces[i]]; got != wantSurf[e] {
+			t.Errorf("edge %v has surface %q, want %q", e, got, wantSurf[e])
+		}
+	}
+}
+
+func TestAssembleNestedCircles(t *testing.T) {
+	const n = 256
+	for _, tc := range []struct {
+		name   string
+		radii  []float64
+		cw     []bool
+		rule   FillRule
+		signs  []float64 // solid area = sum of sign_i * area(r_i)
+		pieces bool
+	}{
+		// CHECKS.md F2 annulus 1<r<2: A = pi (r2^2 - r1^2) = 9.424777961.
+		{"evenodd annulus", []float64{2, 1}, []bool{false, false}, EvenOdd, []float64{1, -1}, false},
+		{"evenodd annulus from arcs", []float64{2, 1}, []bool{false, true}, EvenOdd, []float64{1, -1}, true},
+		{"evenodd three circles", []float64{3, 2, 1}, []bool{false, false, false}, EvenOdd, []float64{1, -1, 1}, false},
+		{"nonzero same orientation", []float64{2, 1}, []bool{false, false}, NonZero, []float64{1, 0}, false},
+		{"nonzero opposite orientation", []float64{2, 1}, []bool{false, true}, NonZero, []float64{1, -1}, false},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var pls []Polyline
+			for i, r := range tc.radii {
+				c := asmCircle(0, 0, r, n, tc.cw[i], "TUBE")
+				if tc.pieces { // two half-circle arcs, as a DXF ARC pair
+					h := n / 2
+					pls = append(pls, Polyline{Points: slices.Clone(c.Points[:h+1]), Surface: "TUBE"},
+						Polyline{Points: append(slices.Clone(c.Points[h:]), c.Points[0]), Surface: "TUBE"})
+					continue
+				}
+				pls = append(pls, c)
+			}
+			o, _, err := Assemble([]*Drawing{asmTestDrawing([]FillRule{tc.rule}, pls...)}, AssembleOptions{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			var want, exact float64
+			for i, r := range tc.radii {
+				want += tc.signs[i] * asmNgonArea(r, n) // CHECKS.md F1
+				exact += tc.signs[i] * math.Pi * r * r  // CHECKS.md F2
+			}
+			if got := o.Area(); math.Abs(got-want) > 1e-12*want {
+				t.Errorf("Area() = %.15g, want %.15g (n-gon, F1)", got, want)
+			}
+			// The 256-gon differs from the circle by about (2 pi^2/3)/n^2 relative.
+			if got := o.Area(); math.Abs(got-exact) > 2e-4*exact {
+				t.Errorf("Area() = %.10g, want %.10g ± 2e-4 rel (circles, F2)", got, exact)
+			}
+			asmCheckOrientation(t, o)
+		})
+	}
+	t.Run("F2 reference value", func(t *testing.T) {
+		// CHECKS.md F2: annulus 1<r<2 has A = 9.424777961.
+		if got := math.Pi * (4 - 1); math.Abs(got-9.424777961) > 1e-9 {
+			t.Errorf("pi(r2^2-r1^2) = %.10f, want 9.424777961", got)
+		}
+	})
+}
+
+func TestAssembleUnionAcrossDrawings(t *testing.T) {
+	// Two files: a wall with a hole, and a second file filling part of it.
+	d1 := asmTestDrawing(nil, asmRect(0, 0, 4, 4, false, "WALL"), asmRect(1, 1, 3, 3, false, "WALL"))
+	d2 := asmTestDrawing(nil, asmRect(1.5, 1.5, 2.5, 2.5, false, "CORE"), asmRect(10, 10, 11, 12, true, "FAR"))
+	d2.File = "second.dxf"
+	o, rep, err := Assemble([]*Drawing{d1, d2}, AssembleOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := 16.0 - 4 + 1 + 2; o.Area() != want {
+		t.Errorf("Area() = %g, want %g", o.Area(), want)
+	}
+	if rep.Solids != 3 || rep.Holes != 1 {
+		t.Errorf("solids %d holes %d, want 3 and 1", rep.Solids, rep.Holes)
+	}
+	if !slices.Equal(o.Surfaces, []string{"WALL", "CORE", "FAR"}) {
+		t.Errorf("Surfaces = %q", o.Surfaces)
+	}
+	asmCheckOrientation(t, o)
+}
+
+// asmFind returns the first problem of kind k within tol of at.
+func asmFind(rep *AssemblyReport, k ProblemKind, at r2.Vec, tol float64) *Problem {
+	for i, p := range rep.Problems {
+		if p.Kind == k && r2.Norm(r2.Sub(p.At, at)) <= tol {
+			return &rep.Problems[i]
+		}
+	}
+	return nil
+}
+
+func TestAssembleProblems(t *testing.T) {
+	line := func(x0, y0, x1, y1 float64, surface string, src int) Polyline {
+		return Polyline{Points: []r2.Vec{asmV(x0, y0), asmV(x1, y1)}, Surface: surface, Line: src}
+	}
+	// The unit square as four lines from source lines 10..40.
+	square := func() []Polyline {
+		return []Polyline{line(0, 0, 1, 0, "A", 10), line(1, 0, 1, 1, "A", 20), line(1, 1, 0, 1, "A", 30), line(0, 1, 0, 0, "A", 40)}
+	}
+	type want struct {
+		kind ProblemKind
+		at   r2.Vec
+		line int
+	}
+	for _, tc := range []struct {
+		name   string
+		tol    float64
+		pls    []Polyline
+		want   []want // each must be found; the first is what the error names
+		others bool   // other problems may be present
+		fatal  bool
+		detail string // in the first problem's detail
+	}{
+		{"open end", 0, []Polyline{line(0, 0, 1, 0, "U", 5), line(1, 0, 1, 1, "U", 6), line(0, 0, 0, 1, "U", 7)},
+			[]want{{ProblemOpenEnd, asmV(1, 1), 6}, {ProblemOpenEnd, asmV(0, 1), 7}}, false, true, "meets no other end"},
+		{"gap just above tolerance", 1e-6, append(square()[:3], line(0, 1, 0, 1.5e-6, "B", 40)),
+			[]want{{ProblemGap, asmV(0, 0), 10}}, false, true, "gap of 0.0015 mm"},
+		{"branch", 0, append(square(), line(0, 0, -1, -1, "STRAY", 50)),
+			[]want{{ProblemBranch, asmV(0, 0), 10}, {ProblemOpenEnd, asmV(-1, -1), 50}}, false, true, "3 ends meet"},
+		{"self-intersection", 0, []Polyline{{Points: []r2.Vec{asmV(0, 0), asmV(1, 1), asmV(1, 0), asmV(0, 1)}, Closed: true, Surface: "BOW", Line: 12}},
+			[]want{{ProblemSelfIntersection, asmV(0.5, 0.5), 12}}, false, true, "crosses itself"},
+		{"crossing loops", 0, []Polyline{asmRect(0, 0, 2, 2, false, "A"), asmRect(1, 1, 3, 3, false, "B")},
+			[]want{{ProblemCrossing, asmV(2, 1), 10}, {ProblemCrossing, asmV(1, 2), 10}}, false, true, `surface "B"`},
+		{"crossing through a vertex on an edge", 0, []Polyline{asmRect(0, 0, 2, 2, false, "A"),
+			{Points: []r2.Vec{asmV(1.5, 1.5), asmV(2, 1), asmV(3, 1.2), asmV(2.5, 3)}, Closed: true, Surface: "B"}},
+			[]want{{ProblemCrossing, asmV(2, 1), 10}, {ProblemCrossing, asmV(1.8333333333333333, 2), 10}}, false, true, ""},
+		{"crossing through a shared vertex", 0, []Polyline{asmRect(0, 0, 2, 2, false, "A"),
+			{Points: []r2.Vec{asmV(1, 1.5), asmV(2, 2), asmV(3, 2.5), asmV(3, 1)}, Closed: true, Surface: "B"}},
+			[]want{{ProblemCrossing, asmV(2, 2), 10}}, true, true, ""},
+		{"partial overlap", 0, []Polyline{asmRect(0, 0, 1, 1, false, "A"), asmRect(1, 0.5, 2, 1.5, false, "B")},
+			[]want{{ProblemDuplicateEdge, asmV(1, 0.75), 10}}, true, true, "overlap of 500 mm"},
+		{"loop runs back", 0, []Polyline{{Points: []r2.Vec{asmV(0, 0), asmV(2, 0), asmV(1, 0), asmV(1, 1)}, Closed: true, Surface: "S", Line: 3}},
+			[]want{{ProblemDuplicateEdge, asmV(2, 0), 3}}, true, true, "runs back"},
+		{"degenerate loop", 0, []Polyline{asmRect(0, 0, 1, 1, false, "A"),
+			{Points: []r2.Vec{asmV(5, 5), asmV(6, 6), asmV(7, 7)}, Closed: true, Surface: "Z", Line: 77}},
+			[]want{{ProblemDegenerateLoop, asmV(5, 5), 77}}, false, false, "encloses no area"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			d := asmTestDrawing(nil, tc.pls...)
+			o, rep, err := Assemble([]*Drawing{d}, AssembleOptions{Tolerance: tc.tol})
+			if o == nil || rep == nil {
+				t.Fatalf("Assemble returned outline %v, report %v; want both", o, rep)
+			}
+			const at = 1e-12
+			for _, w := range tc.want {
+				p := asmFind(rep, w.kind, w.at, at)
+				switch {
+				case p == nil:
+					t.Errorf("no %s at %v within %g; problems: %+v", w.kind, w.at, at, rep.Problems)
+				case p.Line != w.line || p.File != "test.dxf" || p.Where == "":
+					t.Errorf("%s at %v names %s:%d (%q), want test.dxf:%d", w.kind, w.at, p.File, p.Line, p.Where, w.line)
+				}
+			}
+			if !tc.others && len(rep.Problems) != len(tc.want) {
+				t.Errorf("%d problems, want %d: %+v", len(rep.Problems), len(tc.want), rep.Problems)
+			}
+			var ie *InputError
+			if tc.fatal != (err != nil) {
+				t.Fatalf("err = %v, want an error: %v", err, tc.fatal)
+			}
+			if !tc.fatal {
+				return
+			}
+			if !errors.As(err, &ie) {
+				t.Fatalf("err is %T, want *InputError", err)
+			}
+			first := rep.Fatal()
+			if ie.File != first.File || ie.Line != first.Line || ie.Entity != first.Where || ie.Hint == "" ||
+				!strings.Contains(ie.What, string(first.Kind)) || !strings.Contains(ie.What, fmt.Sprintf("%.9g", first.At.X)) ||
+				!strings.Contains(ie.What, fmt.Sprintf("%q", first.Surface)) {
+				t.Errorf("InputError %+v does not name the first problem %+v", ie, first)
+			}
+			if tc.detail != "" && !strings.Contains(first.Detail+ie.What, tc.detail) {
+				t.Errorf("first problem %q, want it to mention %q", first.Detail, tc.detail)
+			}
+		})
+	}
+}
+
+func TestAssembleNoProblem(t *testing.T) {
+	line := func(x0, y0, x1, y1 float64) Polyline {
+		return Polyline{Points: []r2.Vec{asmV(x0, y0), asmV(x1, y1)}, Surface: "A"}
+	}
+	for _, tc := range []struct {
+		name string
+		tol  float64
+		pls  []Polyline
+		area float64
+	}{
+		{"gap just below tolerance", 1e-6, []Polyline{line(0, 0, 1, 0), line(1, 0, 1, 1), line(1, 1, 0, 1), line(0, 1, 0, 0.5e-6)}, 1},
+		{"squares touching at a corner", 0, []Polyline{asmRect(0, 0, 1, 1, false, "A"), asmRect(1, 1, 2, 2, true, "B")}, 2},
+		{"vertex touching an edge from outside", 0, []Polyline{asmRect(0, 0, 2, 2, false, "A"),
+			{Points: []r2.Vec{asmV(2, 1), asmV(3, 0), asmV(3, 2)}, Closed: true, Surface: "B"}}, 5},
+		{"loop touching itself at a vertex", 0, []Polyline{{Points: []r2.Vec{asmV(0, 0), asmV(1, 0), asmV(1, 1), asmV(2, 1),
+			asmV(2, 2), asmV(1, 2), asmV(1, 1), asmV(0, 1)}, Closed: true, Surface: "A"}}, 2},
+		{"open polyline returning to its start", 0, []Polyline{{Points: []r2.Vec{asmV(0, 0), asmV(1, 0), asmV(1, 1), asmV(0, 0)}, Surface: "A"}}, 0.5},
+		{"repeated vertices", 0, []Polyline{{Points: []r2.Vec{asmV(0, 0), asmV(0, 0), asmV(1, 0), asmV(1, 1), asmV(1, 1), asmV(0, 1), asmV(0, 0)}, Closed: true, Surface: "A"}}, 1},
+		{"exact duplicate reversed", 0, []Polyline{asmRect(0, 0, 1, 1, false, "A"), asmRect(0, 0, 1, 1, true, "A")}, 1},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			o, rep, err := Assemble([]*Drawing{asmTestDrawing(nil, tc.pls...)}, AssembleOptions{Tolerance: tc.tol})
+			if err != nil || len(rep.Problems) != 0 {
+				t.Fatalf("Assemble: %v, problems %+v", err, rep.Problems)
+			}
+			if got := o.Area(); math.Abs(got-tc.area) > 1e-9 {
+				t.Errorf("Area() = %.12g, want %g", got, tc.area)
+			}
+			for _, l := range o.Loops {
+				for i := range l.Points {
+					if l.Points[i] == l.Points[(i+1)%len(l.Points)] {
+						t.Errorf("zero-length edge at %v", l.Points[i])
+					}
+				}
+			}
+			asmCheckOrientation(t, o)
+		})
+	}
+}
+
+func TestAssembleBadInput(t *testing.T) {
+	for _, tc := range []struct {
+		name  string
+		ds    []*Drawing
+		opts  AssembleOptions
+		input bool // want *InputError
+		want  string
+	}{
+		{"no drawings", nil, AssembleOptions{}, true, "no outlines"},
+		{"only empty polylines", []*Drawing{asmTestDrawing(nil, Polyline{Surface: "A"})}, AssembleOptions{}, true, "no outlines"},
+		{"negative tolerance", []*Drawing{asmTestDrawing(nil, asmRect(0, 0, 1, 1, false, "A"))}, AssembleOptions{Tolerance: -1}, false, "tolerance"},
+		{"NaN coordinate", []*Drawing{asmTestDrawing(nil, Polyline{Points: []r2.Vec{asmV(0, 0), asmV(math.NaN(), 1)}})}, AssembleOptions{}, true, "not a finite"},
+		{"group without rule", []*Drawing{asmTestDrawing(nil, Polyline{Points: []r2.Vec{asmV(0, 0), asmV(1, 1)}, Group: 3})}, AssembleOptions{}, true, "fill group 3"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			_, _, err := Assemble(tc.ds, tc.opts)
+			var ie *InputError
+			if err == nil || errors.As(err, &ie) != tc.input || !strings.Contains(err.Error(), tc.want) {
+				t.Errorf("Assemble: err = %v (%T), want %q, InputError %v", err, err, tc.want, tc.input)
+			}
+		})
+	}
+}
+
+// asmFurnace generates a wall box around a cavity with a row of tubes
+// (outer and inner circles): nTubes*2+2 loops. With soup the cavity and the
+// tubes come as LINE pieces, else as closed polylines.
+func asmFurnace(nTubes, seg, cavitySeg int, soup bool) (*Drawing, float64) {
+	const w, h, rOut, rIn = 3.0, 0.6, 0.02, 0.016
+	var pls []Polyline
+	pls = append(pls, asmRect(-0.1, -0.1, w+0.1, h+0.1, false, "SHELL"))
+	// The cavity as a rectangle whose sides are split into cavitySeg pieces.
+	var cav []r2.Vec
+	corners := []r2.Vec{asmV(0, 0), asmV(w, 0), asmV(w, h), asmV(0, h)}
+	for i := range 4 {
+		a, b := corners[i], corners[(i+1)%4]
+		for k := range cavitySeg {
+			cav = append(cav, r2.Add(a, r2.Scale(float64(k)/float64(cavitySeg), r2.Sub(b, a))))
+		}
+	}
+	cavity := Polyline{Points: cav, Closed: true, Surface: "CAVITY"}
+	var tubes []Polyline
+	pitch := w / float64(nTubes)
+	for i := range nTubes {
+		cx := pitch * (float64(i) + 0.5)
+		tubes = append(tubes, asmCircle(cx, h/2, rOut, seg, false, "TUBES"), asmCircle(cx, h/2, rIn, seg, false, "BORE"))
+	}
+	if soup {
+		pls = append(pls, asmSoup(cavity)...)
+		pls = append(pls, asmSoup(tubes...)...)
+	} else {
+		pls = append(pls, cavity)
+		pls = append(pls, tubes...)
+	}
+	area := (w+0.2)*(h+0.2) - w*h + float64(nTubes)*(asmNgonArea(rOut, seg)-asmNgonArea(rIn, seg))
+	return asmTestDrawing(nil, pls...), area
+}
+
+func TestAssembleFurnace(t *testing.T) {
+	for _, soup := range []bool{false, true} {
+		t.Run(fmt.Sprintf("soup=%v", soup), func(t *testing.T) {
+			d, want := asmFurnace(40, 32, 50, soup)
+			o, rep, err := Assemble([]*Drawing{d}, AssembleOptions{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got := o.Area(); math.Abs(got-want) > 1e-12*want {
+				t.Errorf("Area() = %.15g, want %.15g (rectangles and n-gons, CHECKS.md F1)", got, want)
+			}
+			if rep.Solids != 41 || rep.Holes != 41 {
+				t.Errorf("solids %d holes %d, want 41 and 41", rep.Solids, rep.Holes)
+			}
+			asmCheckOrientation(t, o)
+		})
+	}
+}
+
+func BenchmarkAssemble(b *testing.B) {
+	for _, tc := range []struct {
+		name string
+		soup bool
+	}{{"closed", false}, {"soup", true}} {
+		// 150 tubes of two 64-gons plus a 400-piece cavity: 302 loops, 19 604 edges.
+		d, _ := asmFurnace(150, 64, 100, tc.soup)
+		edges := 0
+		for _, p := range d.Polylines {
+			edges += len(p.Points)
+			if !p.Closed {
+				edges--
+			}
+		}
+		b.Run(tc.name, func(b *testing.B) {
+			for b.Loop() {
+				if _, _, err := Assemble([]*Drawing{d}, AssembleOptions{}); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(edges)*float64(b.N)/b.Elapsed().Seconds(), "edges/s")
+		})
+	}
+}
