@@ -93,9 +93,11 @@ func outCheckName(name string) error {
 // WriteDir writes a mask into dir (created if missing): one <field>.npy per
 // field (format "npy"), mask.vti ("vti"), mask.zarr ("zarr", with default
 // ZarrOptions) and manifest.json, in that order, each through a temporary
-// file renamed into place, so that a present manifest means every file it
-// names is complete. formats is a subset of "vti", "npy", "zarr"; nil or
-// empty means vti and npy.
+// file renamed into place. The previous manifest is removed before the
+// first file is written, so a present manifest means every file it names is
+// complete and from the same run; ReadDir refuses a folder without one.
+// formats is a subset of "vti", "npy", "zarr"; nil or empty means vti and
+// npy.
 //
 // The manifest written is a copy of man (NewManifest(m, Provenance{}) when
 // man is nil) whose grid, fields and files entries are regenerated from m and
@@ -150,6 +152,12 @@ func WriteDir(dir string, m *Mask, man *Manifest, formats []string) error {
 	}
 
 	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	// A manifest from an earlier run goes first: should this run fail
+	// halfway, the folder then has no manifest rather than one that vouches
+	// for a mix of old and new files.
+	if err := os.Remove(filepath.Join(dir, ManifestFile)); err != nil && !errors.Is(err, os.ErrNotExist) {
 		return err
 	}
 	if set["npy"] {

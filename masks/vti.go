@@ -82,9 +82,7 @@ func WriteVTI(w io.Writer, m *Mask, opts VTIOptions) error {
 			a.comps = 3
 		}
 		a.bytes = uint64(g.NumCells()) * uint64(a.comps) * uint64(f.DType.Size())
-		if a.bytes > math.MaxUint32 {
-			header64 = true
-		}
+		header64 = header64 || vtiNeeds64(a.bytes)
 		arrays = append(arrays, a)
 	}
 	hsize, htype := uint64(4), "UInt32"
@@ -129,6 +127,9 @@ func WriteVTI(w io.Writer, m *Mask, opts VTIOptions) error {
 	fmt.Fprintf(bw, "\n  </AppendedData>\n</VTKFile>\n")
 	return bw.Flush()
 }
+
+// vtiNeeds64 reports whether an array of n bytes needs a UInt64 byte count.
+func vtiNeeds64(n uint64) bool { return n > math.MaxUint32 }
 
 // vtiWriteArray streams one array's values, padding 2D vectors with z = 0.
 func vtiWriteArray(w io.Writer, a vtiArray, buf []byte) error {
