@@ -59,7 +59,7 @@ type dxfEntity struct {
 	cols, rows   int
 	colSp, rowSp float64
 
-	skip string // why a read entity is not drawn (a warning), empty when drawn
+	count int // LWPOLYLINE vertex count promised by group 90; -1 when absent
 }
 
 // label names the entity for messages: "LWPOLYLINE handle 2F".
@@ -86,7 +86,7 @@ var dxfDrawnKinds = map[string]bool{
 // and place; values of their groups are not parsed.
 func dxfDecode(name, kind string, line int, pairs []dxfPair) (*dxfEntity, error) {
 	e := &dxfEntity{kind: kind, line: line, layer: "0", ext: r3.Vec{Z: 1}, scale: r2.Vec{X: 1, Y: 1},
-		ratio: 1, cols: 1, rows: 1}
+		ratio: 1, cols: 1, rows: 1, count: -1}
 	for _, p := range pairs {
 		if p.code == 5 {
 			e.handle = p.val
@@ -191,6 +191,8 @@ func dxfDecodeKind(e *dxfEntity, p dxfPair, num func(dxfPair) (float64, error), 
 		switch p.code {
 		case 70:
 			e.flags, err = intv()
+		case 90:
+			e.count, err = intv()
 		case 10:
 			e.verts = append(e.verts, dxfVertex{p: r2.Vec{X: v}})
 		case 20:
@@ -307,6 +309,12 @@ func dxfCheckEntity(e *dxfEntity, name, lab string) error {
 	case "LINE":
 		if len(e.verts) != 2 {
 			return bad(fmt.Sprintf("has %d end points (groups 10/11), expected 2", len(e.verts)), fix)
+		}
+	case "LWPOLYLINE":
+		// The count is only compared, never used to allocate.
+		if e.count >= 0 && e.count != len(e.verts) {
+			return bad(fmt.Sprintf("promises %d vertices (group 90) but has %d", e.count, len(e.verts)),
+				"the file is truncated or damaged; export it again")
 		}
 	case "CIRCLE", "ARC":
 		if e.radius < 0 {
