@@ -1,6 +1,7 @@
 package masks
 
 import (
+	"bytes"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -148,13 +149,103 @@ func WriteManifest(w io.Writer, man *Manifest) error {
 	if c.Statistics != nil {
 		c.Statistics = manFinite(c.Statistics).(map[string]any)
 	}
-	b, err := json.MarshalIndent(&c, "", "  ")
+	b, err := manJSON(&c, "  ")
 	if err != nil {
 		return fmt.Errorf("manifest: %w", err)
 	}
-	b = append(b, '\n')
 	_, err = w.Write(b)
 	return err
+}
+
+// manJSON marshals v indented, without escaping <, > and & (dtypes such as
+// "<f8" stay readable), with every array of plain values on one line, and
+// with a final newline.
+func manJSON(v any, indent string) ([]byte, error) {
+	var buf bytes.Buffer
+	enc := json.NewEncoder(&buf)
+	enc.SetEscapeHTML(false)
+	enc.SetIndent("", indent)
+	if err := enc.Encode(v); err != nil {
+		return nil, err
+	}
+	return manCompactArrays(buf.Bytes()), nil
+}
+
+// manCompactArrays rewrites indented JSON so that an array holding no
+// object or array sits on one line: "[\n  1,\n  2\n]" becomes "[1, 2]".
+// Strings are copied verbatim.
+func manCompactArrays(b []byte) []byte {
+	out := make([]byte, 0, len(b))
+	for i := 0; i < len(b); i++ {
+		c := b[i]
+		if c == '"' {
+			j := manStringEnd(b, i)
+			out = append(out, b[i:j]...)
+			i = j - 1
+			continue
+		}
+		if c != '[' {
+			out = append(out, c)
+			continue
+		}
+		// Find the matching ']' if the array is flat.
+		flat, end := true, -1
+		for j := i + 1; j < len(b) && end < 0; j++ {
+			switch b[j] {
+			case '"':
+				j = manStringEnd(b, j) - 1
+			case '[', '{':
+				flat = false
+				end = j
+			case ']':
+				end = j
+			}
+		}
+		if !flat || end < 0 {
+			out = append(out, c)
+			continue
+		}
+		out = append(out, '[')
+		first := true
+		for j := i + 1; j < end; {
+			for j < end && (b[j] == ' ' || b[j] == '\n' || b[j] == ',') {
+				j++
+			}
+			if j >= end {
+				break
+			}
+			k := j
+			if b[j] == '"' {
+				k = manStringEnd(b, j)
+			} else {
+				for k < end && b[k] != ',' && b[k] != '\n' && b[k] != ' ' {
+					k++
+				}
+			}
+			if !first {
+				out = append(out, ',', ' ')
+			}
+			out = append(out, b[j:k]...)
+			first = false
+			j = k
+		}
+		out = append(out, ']')
+		i = end
+	}
+	return out
+}
+
+// manStringEnd returns the index just past the JSON string starting at i.
+func manStringEnd(b []byte, i int) int {
+	for j := i + 1; j < len(b); j++ {
+		switch b[j] {
+		case '\\':
+			j++
+		case '"':
+			return j + 1
+		}
+	}
+	return len(b)
 }
 
 // manFinite replaces non-finite floats inside maps and slices of any with

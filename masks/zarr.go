@@ -2,7 +2,6 @@ package masks
 
 import (
 	"bytes"
-	"encoding/json"
 	"fmt"
 	"io"
 	"os"
@@ -202,12 +201,12 @@ func WriteZarrMeta(dir string, m *Mask, man *Manifest, opts ZarrOptions) error {
 
 // zarrWriteJSON writes v as indented JSON, atomically.
 func zarrWriteJSON(path string, v any) error {
-	b, err := json.MarshalIndent(v, "", "    ")
+	b, err := manJSON(v, "    ")
 	if err != nil {
 		return err
 	}
 	return WriteFileAtomic(path, func(w io.Writer) error {
-		_, err := w.Write(append(b, '\n'))
+		_, err := w.Write(b)
 		return err
 	})
 }
