@@ -65,3 +65,41 @@ func (em *dxfEmitter) insert(e *dxfEntity, xf dxfXform, layer, via string, depth
 	}
 	return nil
 }
+
+// dxfSatMul multiplies non-negative counts, saturating above limit.
+func dxfSatMul(a, b, limit int) int {
+	if a == 0 || b == 0 {
+		return 0
+	}
+	if a > limit/b {
+		return limit + 1
+	}
+	return a * b
+}
+
+// count returns how many entities expanding e visits, saturating just above
+// dxfMaxInstances, so that a file whose nested inserts multiply into
+// billions of copies is refused before any copy is made. Cycles and
+// over-deep nesting count as one entity here; the expansion reports them.
+func (em *dxfEmitter) count(e *dxfEntity, memo map[string]int, visiting map[string]bool) int {
+	const limit = dxfMaxInstances
+	if e.kind != "INSERT" && e.kind != "MINSERT" || e.paper {
+		return 1
+	}
+	key := strings.ToUpper(e.block)
+	b, ok := em.f.blocks[key]
+	if !ok || visiting[key] || len(visiting) >= em.opts.maxDepth() {
+		return 1
+	}
+	per, done := memo[key]
+	if !done {
+		visiting[key] = true
+		for _, be := range b.entities {
+			per = min(per+em.count(be, memo, visiting), limit+1)
+		}
+		delete(visiting, key)
+		memo[key] = per
+	}
+	copies := dxfSatMul(e.rows, e.cols, limit)
+	return min(1+dxfSatMul(copies, per+1, limit), limit+1)
+}

@@ -41,6 +41,13 @@ type dxfEmitter struct {
 // run emits every model-space entity, then the summary warnings.
 func (em *dxfEmitter) run() error {
 	em.seen = map[string]bool{}
+	memo, visiting, total := map[string]int{}, map[string]bool{}, 0
+	for _, e := range em.f.entities {
+		if total += em.count(e, memo, visiting); total > dxfMaxInstances {
+			return em.fail(e, fmt.Sprintf("block inserts expand to more than %d entities", dxfMaxInstances),
+				"explode or simplify the nested block arrays in your CAD program")
+		}
+	}
 	for _, e := range em.f.entities {
 		if err := em.emit(e, dxfIdentity, "", "", 0); err != nil {
 			return err
@@ -115,7 +122,7 @@ func (em *dxfEmitter) emit(e *dxfEntity, xf dxfXform, layer, via string, depth i
 	if e.layer != "0" || layer == "" {
 		layer = e.layer
 	}
-	where := e.where() + via
+	where := e.place + via
 	ocs := dxfIdentity
 	switch e.kind {
 	case "ARC", "CIRCLE", "LWPOLYLINE", "POLYLINE", "INSERT", "MINSERT":

@@ -59,7 +59,8 @@ type dxfEntity struct {
 	cols, rows   int
 	colSp, rowSp float64
 
-	count int // LWPOLYLINE vertex count promised by group 90; -1 when absent
+	count int    // LWPOLYLINE vertex count promised by group 90; -1 when absent
+	place string // "line N, KIND handle H", for messages
 }
 
 // label names the entity for messages: "LWPOLYLINE handle 2F".
@@ -92,6 +93,9 @@ func dxfDecode(name, kind string, line int, pairs []dxfPair) (*dxfEntity, error)
 			e.handle = p.val
 			break
 		}
+	}
+	if kind != "VERTEX" {
+		e.place = e.where()
 	}
 	drawn := dxfDrawnKinds[kind]
 	lab := e.label()
