@@ -59,12 +59,9 @@ func (n *svgNode) href() (string, bool) {
 func (n *svgNode) entity() string {
 	id, ok := n.attr("id")
 	if !ok {
-		return "<" + n.name + ">"
+		return "<" + svgShort(n.name) + ">"
 	}
-	if len(id) > 40 {
-		id = strings.ToValidUTF8(id[:40], "?") + "..."
-	}
-	return fmt.Sprintf("<%s id=%q>", n.name, id)
+	return fmt.Sprintf("<%s id=%q>", svgShort(n.name), svgShort(id))
 }
 
 // svgDocument is a parsed SVG file.
@@ -133,10 +130,10 @@ func svgReadDocument(r io.Reader, file string, maxDepth int) (*svgDocument, erro
 		switch t := tok.(type) {
 		case xml.StartElement:
 			if doc.root != nil && len(stack) == 0 {
-				return nil, fail(line, "<"+t.Name.Local+">", "a second top-level element after </svg>", "an SVG file has exactly one root <svg> element")
+				return nil, fail(line, "<"+svgShort(t.Name.Local)+">", "a second top-level element after </svg>", "an SVG file has exactly one root <svg> element")
 			}
 			if len(stack) >= maxDepth {
-				return nil, fail(line, "<"+t.Name.Local+">", fmt.Sprintf("elements nested deeper than %d levels", maxDepth),
+				return nil, fail(line, "<"+svgShort(t.Name.Local)+">", fmt.Sprintf("elements nested deeper than %d levels", maxDepth),
 					"flatten the groups in the drawing, or raise the nesting limit (ReadOptions.MaxDepth)")
 			}
 			n := &svgNode{name: t.Name.Local, foreign: t.Name.Space != "" && t.Name.Space != svgNS, line: line}
@@ -144,7 +141,7 @@ func svgReadDocument(r io.Reader, file string, maxDepth int) (*svgDocument, erro
 			doc.nodes++
 			if doc.root == nil {
 				if n.name != "svg" || n.foreign {
-					return nil, fail(line, "<"+t.Name.Local+">", fmt.Sprintf("root element is <%s>, want <svg>", t.Name.Local), "the file is XML but not SVG")
+					return nil, fail(line, "<"+svgShort(t.Name.Local)+">", fmt.Sprintf("root element is <%s>, want <svg>", svgShort(t.Name.Local)), "the file is XML but not SVG")
 				}
 				doc.root = n
 			} else {
@@ -153,7 +150,7 @@ func svgReadDocument(r io.Reader, file string, maxDepth int) (*svgDocument, erro
 			}
 			if id, ok := n.attr("id"); ok && !n.foreign {
 				if _, dup := doc.ids[id]; dup {
-					doc.dups = append(doc.dups, fmt.Sprintf("line %d: id %q is used again; use elements refer to the first", line, id))
+					doc.dups = append(doc.dups, fmt.Sprintf("line %d: id %q is used again; use elements refer to the first", line, svgShort(id)))
 				} else {
 					doc.ids[id] = n
 				}

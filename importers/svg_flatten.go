@@ -9,30 +9,27 @@ import (
 	"gonum.org/v1/gonum/spatial/r2"
 )
 
-// Flattening strategy. canvas.Path.Flatten takes the tolerance as an
-// argument, but canvas also compares coordinates against its package-level
-// Epsilon (1e-10, absolute) when it builds and splits curves. So that this
-// absolute constant cannot depend on the drawing's size or unit, every curve
-// segment is handed to canvas on its own, already mapped to metres, then
-// translated to its start point and divided by its size L, with the
-// tolerance divided by L too; the chord points are mapped back afterwards.
-// Epsilon then acts as a relative 1e-10 of the segment, and no canvas global
-// is read for the tolerance or written by this package.
-//
-// Béziers are affine-invariant, so their control points are mapped before
-// flattening. An arc is built in its own user space (so canvas applies the
-// SVG rules for out-of-range radii) and carried to metres by canvas's
-// Path.Transform, which maps an ellipse to the ellipse it becomes. Either
-// way the chord error is measured in metres, after every transform and the
-// unit scale, so it is at most the caller's ChordTolerance.
+// Flattening strategy. Béziers go through canvas.Path.Flatten, which takes
+// the tolerance as an argument. canvas also compares coordinates against its
+// package-level Epsilon (1e-10, absolute) when it builds and splits curves,
+// so that this constant cannot depend on the drawing's size or unit, each
+// Bézier is handed to canvas on its own, already mapped to metres (Béziers
+// are affine-invariant, so mapping the control points is exact), translated
+// to its start point and divided by its size L, with the tolerance divided
+// by L too; the chord points are mapped back afterwards. Epsilon then acts
+// as a relative 1e-10 of the segment, and no canvas global is read for the
+// tolerance or written by this package. Elliptical arcs are flattened here
+// (see svgFlattenArc). Either way the chord error is measured in metres,
+// after every transform and the unit scale, so it is at most the caller's
+// ChordTolerance, or 1e-9 of the curve's size when that is coarser.
 const (
-	// svgMinRelTolerance is the finest relative tolerance handed to canvas:
-	// float64 arithmetic on unit-size curves cannot place chords more
-	// precisely than about 1e-12, and canvas floors its Bézier tolerance at
+	// svgMinRelTolerance is the finest tolerance relative to a curve's size:
+	// float64 arithmetic on unit-size curves cannot place chords much more
+	// precisely than 1e-12, and canvas floors its Bézier tolerance at
 	// Epsilon = 1e-10 (common practice, no source).
 	svgMinRelTolerance = 1e-9
 	// svgMaxRelTolerance keeps a coarse tolerance from collapsing a small
-	// circle into a line: canvas's circle flattening needs tolerance < radius.
+	// closed Bézier blob into a line.
 	svgMaxRelTolerance = 0.1
 )
 
@@ -65,10 +62,10 @@ type svgSubpath struct {
 // user units to metres (y flip included) and tol is the chord tolerance in
 // metres. Subpaths with fewer than two distinct points are dropped. A closed
 // subpath does not repeat its first point.
-// Cost: O(number of output points); each curve point is charged to budget
-// before it is made.
-func svgFlatten(segs []svgSegment, m svgMatrix, tol float64, budget *svgBudget) ([]svgSubpath, error) {
-	var out []svgSubpath
+// coarse reports that a curve was too large for tol, so that 1e-9 of its
+// size was used instead. Cost: O(number of output points); curve points are
+// charged to budget before they are made.
+func svgFlatten(segs []svgSegment, m svgMatrix, tol float64, budget *svgBudget) (out []svgSubpath, coarse bool, err error) {
 	var cur svgSubpath
 	var curUser, startUser r2.Vec // current and subpath start point in user units
 	var curM r2.Vec               // current point in metres
@@ -101,7 +98,7 @@ func svgFlatten(segs []svgSegment, m svgMatrix, tol float64, budget *svgBudget) 
 			flush()
 			if s.op != svgMove {
 				if err := add(curM); err != nil {
-					return nil, err
+					return nil, coarse, err
 				}
 			}
 		}
@@ -110,15 +107,15 @@ func svgFlatten(segs []svgSegment, m svgMatrix, tol float64, budget *svgBudget) 
 		case svgMove:
 			startUser = s.end
 			if err := add(end); err != nil {
-				return nil, err
+				return nil, coarse, err
 			}
 		case svgLine:
 			if err := add(end); err != nil {
-				return nil, err
+				return nil, coarse, err
 			}
 		case svgClose:
 			if err := add(end); err != nil {
-				return nil, err
+				return nil, coarse, err
 			}
 			cur.closed = true
 		case svgQuad, svgCubic:
@@ -126,13 +123,17 @@ func svgFlatten(segs []svgSegment, m svgMatrix, tol float64, budget *svgBudget) 
 			if s.op == svgQuad {
 				ctrl = []r2.Vec{curM, m.apply(s.c1), end}
 			}
-			if err := svgFlattenBezier(ctrl, tol, budget, add); err != nil {
-				return nil, err
+			w, err := svgFlattenBezier(ctrl, tol, budget, add)
+			if err != nil {
+				return nil, coarse, err
 			}
+			coarse = coarse || w
 		case svgArc:
-			if err := svgFlattenArc(curUser, s, m, tol, budget, add); err != nil {
-				return nil, err
+			w, err := svgFlattenArc(curUser, s, m, tol, budget, add)
+			if err != nil {
+				return nil, coarse, err
 			}
+			coarse = coarse || w
 		}
 		curUser, curM = s.end, end
 		if s.op == svgClose {
@@ -140,7 +141,7 @@ func svgFlatten(segs []svgSegment, m svgMatrix, tol float64, budget *svgBudget) 
 		}
 	}
 	flush()
-	return out, nil
+	return out, coarse, nil
 }
 
 // svgFinite reports whether both coordinates are finite.
@@ -151,24 +152,25 @@ func svgFinite(p r2.Vec) bool {
 // svgFlattenBezier flattens a quadratic (3 points) or cubic (4 points)
 // Bézier given in metres through canvas, passing every point but the first
 // to add; the last point passed is exactly the end point.
-func svgFlattenBezier(ctrl []r2.Vec, tol float64, budget *svgBudget, add func(r2.Vec) error) error {
+func svgFlattenBezier(ctrl []r2.Vec, tol float64, budget *svgBudget, add func(r2.Vec) error) (coarse bool, err error) {
 	o := ctrl[0]
 	var size float64
 	for _, p := range ctrl[1:] {
 		if !svgFinite(p) {
-			return fmt.Errorf("a control point maps to (%g, %g) m, beyond the range of float64", p.X, p.Y)
+			return false, fmt.Errorf("a control point maps to (%g, %g) m, beyond the range of float64", p.X, p.Y)
 		}
 		size = math.Max(size, math.Max(math.Abs(p.X-o.X), math.Abs(p.Y-o.Y)))
 	}
 	if size == 0 {
-		return nil
+		return false, nil
 	}
 	rel := svgRelTolerance(tol, size)
+	coarse = tol/size < svgMinRelTolerance
 	// Wang's bound on uniform subdivision, sqrt(n(n-1)/8 · max|second
 	// difference| / tol) with a second difference of at most 4 here, is
 	// sqrt(3/rel) for a cubic; canvas's adaptive split needs fewer.
 	if err := budget.take(2*math.Sqrt(3/rel) + 8); err != nil {
-		return err
+		return coarse, err
 	}
 	q := func(i int) (float64, float64) { return (ctrl[i].X - o.X) / size, (ctrl[i].Y - o.Y) / size }
 	p := &canvas.Path{}
@@ -183,47 +185,117 @@ func svgFlattenBezier(ctrl []r2.Vec, tol float64, budget *svgBudget, add func(r2
 		x3, y3 := q(3)
 		p.CubeTo(x1, y1, x2, y2, x3, y3)
 	}
-	return svgEmitFlat(p.Flatten(rel), o, size, ctrl[len(ctrl)-1], add)
+	return coarse, svgEmitFlat(p.Flatten(rel), o, size, ctrl[len(ctrl)-1], add)
 }
 
 // svgFlattenArc flattens the arc s that starts at from (user units), mapped
 // to metres by m, passing every point but the first to add.
-func svgFlattenArc(from r2.Vec, s svgSegment, m svgMatrix, tol float64, budget *svgBudget, add func(r2.Vec) error) error {
+//
+// canvas flattens elliptical arcs by first replacing them with cubic
+// Béziers, and the error of that replacement is not bounded by the
+// tolerance (the tests caught a rounded rect off by twice its band), so arcs
+// are flattened here. The arc is converted to centre form (SVG 1.1 section
+// F.6.5) in user space and mapped to metres as P(t) = c + U cos t + V sin t,
+// which is exact for any affine map. The chord over [t, t+h] of such an
+// ellipse deviates from it by exactly (1 - cos(h/2)) |U x V| / |P'(t+h/2)|
+// (the affine image of a circle's sagitta, measured at the point whose
+// tangent is parallel to the chord), so every step is checked against the
+// tolerance with that formula and shortened until it passes.
+func svgFlattenArc(from r2.Vec, s svgSegment, m svgMatrix, tol float64, budget *svgBudget, add func(r2.Vec) error) (warn bool, err error) {
 	endM := m.apply(s.end)
+	c, u, v, t0, dt, ok := svgArcCentre(from, s)
+	if !ok {
+		return false, add(endM) // F.6.2: an arc with a zero radius is a line; one to its own start is omitted by add
+	}
+	cm, um, vm := m.apply(c), m.linear(u), m.linear(v)
+	ab := math.Abs(um.X*vm.Y - um.Y*vm.X)
+	a := math.Max(r2.Norm(um), r2.Norm(vm)) // at least the larger semi-axis of the mapped ellipse
+	if !svgFinite(cm) || math.IsInf(a, 0) || math.IsNaN(ab) {
+		return false, fmt.Errorf("an arc maps to a size beyond the range of float64")
+	}
+	if ab == 0 || a == 0 {
+		return false, add(endM)
+	}
+	if tol < svgMinRelTolerance*a {
+		tol, warn = svgMinRelTolerance*a, true
+	}
+	// The steepest step, where the mapped ellipse bends most, has
+	// 1 - cos(h/2) = tol/a, so h > 2 sqrt(2 tol/a) and the arc needs fewer
+	// than |dt| / h + 1 chords.
+	if err := budget.take(math.Abs(dt)/(2*math.Sqrt(2*tol/a)) + 2); err != nil {
+		return warn, err
+	}
+	at := func(t float64) r2.Vec {
+		sn, cs := math.Sincos(t)
+		return r2.Vec{X: cm.X + um.X*cs + vm.X*sn, Y: cm.Y + um.Y*cs + vm.Y*sn}
+	}
+	speed := func(t float64) float64 {
+		sn, cs := math.Sincos(t)
+		return math.Hypot(-um.X*sn+vm.X*cs, -um.Y*sn+vm.Y*cs)
+	}
+	dev := func(t, h float64) float64 { return (1 - math.Cos(h/2)) * ab / speed(t+h/2) }
+	dir := math.Copysign(1, dt)
+	left := math.Abs(dt)
+	t := t0
+	for left > 0 {
+		cosHalf := math.Max(1-tol*speed(t)/ab, math.Cos(math.Pi/4)) // at most a quarter turn per chord
+		h := 2 * math.Acos(cosHalf)
+		if n := math.Ceil(left / h); n >= 1 {
+			h = left / n // spread the chords evenly over what is left
+		}
+		for dev(t, dir*h) > tol && h > 1e-12 {
+			h *= 0.8
+		}
+		if h >= left || left-h < 1e-15 {
+			break
+		}
+		t += dir * h
+		left -= h
+		if err := add(at(t)); err != nil {
+			return warn, err
+		}
+	}
+	return warn, add(endM)
+}
+
+// svgArcCentre converts the arc s starting at from to centre form (SVG 1.1
+// sections F.6.5 and F.6.6, radii scaled up when they cannot reach): the
+// ellipse is c + u cos t + v sin t for t from t0 to t0+dt, in user units.
+// ok is false when a radius is zero or the arc ends where it starts.
+func svgArcCentre(from r2.Vec, s svgSegment) (c, u, v r2.Vec, t0, dt float64, ok bool) {
 	rx, ry := math.Abs(s.rx), math.Abs(s.ry)
-	d := r2.Sub(s.end, from)
-	if d == (r2.Vec{}) {
-		return nil // SVG 1.1 section F.6.2: an arc to its own start is omitted
+	if rx == 0 || ry == 0 || from == s.end {
+		return c, u, v, 0, 0, false
 	}
-	if rx == 0 || ry == 0 {
-		return add(endM) // F.6.2: a zero radius makes a straight line
-	}
-	// F.6.6: radii too small to reach the end point grow until they do.
 	sin, cos := math.Sincos(s.rot * math.Pi / 180)
-	x1 := (cos*d.X + sin*d.Y) / 2
-	y1 := (-sin*d.X + cos*d.Y) / 2
+	hx, hy := (from.X-s.end.X)/2, (from.Y-s.end.Y)/2
+	x1 := cos*hx + sin*hy
+	y1 := -sin*hx + cos*hy
 	if lambda := x1*x1/(rx*rx) + y1*y1/(ry*ry); lambda > 1 {
 		rx, ry = rx*math.Sqrt(lambda), ry*math.Sqrt(lambda)
 	}
-	sizeU := math.Max(math.Max(rx, ry), math.Hypot(d.X, d.Y))
-	size := sizeU * m.norm() // metres; an upper bound on the mapped arc's extent
-	if size == 0 || math.IsInf(size, 0) || math.IsNaN(size) {
-		return fmt.Errorf("an arc of radius %g user units maps to a size of %g m", sizeU, size)
+	num := rx*rx*ry*ry - rx*rx*y1*y1 - ry*ry*x1*x1
+	den := rx*rx*y1*y1 + ry*ry*x1*x1
+	k := math.Sqrt(math.Max(0, num/den))
+	if s.large == s.sweep {
+		k = -k
 	}
-	rel := svgRelTolerance(tol, size)
-	// A circle of radius r needs about pi sqrt(r/(2 tol)) chords; canvas
-	// turns ellipses into cubics first, so allow twice that plus the splits.
-	if err := budget.take(2*math.Pi*math.Sqrt(1/(2*rel)) + 16); err != nil {
-		return err
+	cx1, cy1 := k*rx*y1/ry, -k*ry*x1/rx
+	c = r2.Vec{X: cos*cx1 - sin*cy1 + (from.X+s.end.X)/2, Y: sin*cx1 + cos*cy1 + (from.Y+s.end.Y)/2}
+	t0 = math.Atan2((y1-cy1)/ry, (x1-cx1)/rx)
+	t1 := math.Atan2((-y1-cy1)/ry, (-x1-cx1)/rx)
+	dt = t1 - t0
+	if s.sweep && dt < 0 {
+		dt += 2 * math.Pi
+	} else if !s.sweep && dt > 0 {
+		dt -= 2 * math.Pi
 	}
-	p := &canvas.Path{}
-	p.MoveTo(0, 0)
-	p.ArcTo(rx/sizeU, ry/sizeU, s.rot, s.large, s.sweep, d.X/sizeU, d.Y/sizeU)
-	// Carry the unit-size user-space arc to unit-size metres: the linear part
-	// of m scaled by sizeU/size.
-	k := sizeU / size
-	p = p.Transform(canvas.Matrix{{m.a * k, m.c * k, 0}, {m.b * k, m.d * k, 0}})
-	return svgEmitFlat(p.Flatten(rel), m.apply(from), size, endM, add)
+	u = r2.Vec{X: rx * cos, Y: rx * sin}
+	v = r2.Vec{X: -ry * sin, Y: ry * cos}
+	if math.IsNaN(dt) || math.IsNaN(c.X) || math.IsNaN(c.Y) {
+		return c, u, v, 0, 0, false
+	}
+	return c, u, v, t0, dt, true
 }
 
 // svgRelTolerance returns tol relative to size, clamped to the range canvas

@@ -133,6 +133,7 @@ type svgRender struct {
 	instances     int
 	active        map[*svgNode]bool // elements on the current chain, for cycles through use
 	extraWarnings int
+	coarseWarned  bool // the coarse-tolerance warning was given
 }
 
 // svgContext is what an element inherits from the elements around it.
@@ -193,11 +194,11 @@ func (rr *svgRender) rootContext(root *svgNode, opts ReadOptions) (svgContext, e
 			return 0, "", false, err
 		}
 		if l.unit == "%" {
-			rr.warn(fmt.Sprintf("line %d: root %s=%q is relative to a window, not a length; it is ignored", root.line, attr, s))
+			rr.warn(fmt.Sprintf("line %d: root %s=%q is relative to a window, not a length; it is ignored", root.line, attr, svgShort(s)))
 			return 0, "", false, nil
 		}
 		if l.v <= 0 {
-			return 0, "", false, fmt.Errorf("root %s=%q is not positive", attr, s)
+			return 0, "", false, fmt.Errorf("root %s=%q is not positive", attr, svgShort(s))
 		}
 		u := l.unit
 		if u == "" {
@@ -309,7 +310,7 @@ func (rr *svgRender) node(n *svgNode, c svgContext) error {
 			c.fill = EvenOdd
 		case "inherit":
 		default:
-			rr.warn(fmt.Sprintf("line %d: %s: fill-rule %q is neither nonzero nor evenodd; the inherited rule is used", n.line, n.entity(), v))
+			rr.warn(fmt.Sprintf("line %d: %s: fill-rule %q is neither nonzero nor evenodd; the inherited rule is used", n.line, n.entity(), svgShort(v)))
 		}
 	}
 	m := c.m
@@ -501,7 +502,11 @@ func (rr *svgRender) shape(n *svgNode, c svgContext, m svgMatrix) error {
 	if err != nil {
 		return rr.fail(n, c, err.Error(), "fix the element's attributes; SVG 1.1 chapters 8 and 9 give the syntax")
 	}
-	subs, err := svgFlatten(segs, m, rr.tol, &rr.budget)
+	subs, coarse, err := svgFlatten(segs, m, rr.tol, &rr.budget)
+	if coarse && !rr.coarseWarned {
+		rr.coarseWarned = true
+		rr.warn(fmt.Sprintf("line %d, %s: a curve is so large that the chord tolerance %g m is below 1e-9 of its size; 1e-9 of its size is used", n.line, n.entity(), rr.tol))
+	}
 	if errors.Is(err, errSVGBudget) {
 		return rr.fail(n, c, fmt.Sprintf("flattening the drawing needs more than %d points at a chord tolerance of %g m", rr.budget.max, rr.tol),
 			"raise the chord tolerance, or check for absurdly large coordinates or radii")

@@ -135,7 +135,7 @@ func svgAutoRadii(n *svgNode, vp r2.Vec) (rx, ry float64, err error) {
 			return 0, false, fmt.Errorf("attribute %s: %v", name, err)
 		}
 		if l < 0 {
-			return 0, false, fmt.Errorf("attribute %s=%q is negative", name, v)
+			return 0, false, fmt.Errorf("attribute %s=%q is negative", name, svgShort(v))
 		}
 		return l, true, nil
 	}

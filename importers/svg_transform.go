@@ -86,7 +86,7 @@ func svgParseTransform(s string) (svgMatrix, error) {
 		for j < len(s) && (s[j] >= 'a' && s[j] <= 'z' || s[j] >= 'A' && s[j] <= 'Z') {
 			j++
 		}
-		name := s[i:j]
+		name := svgShort(s[i:j])
 		if name == "" {
 			return m, fmt.Errorf("found %s where a transform name (matrix, translate, scale, rotate, skewX, skewY) was expected", svgQuote(s, i))
 		}

@@ -54,7 +54,7 @@ func svgScanNumber(s string) (float64, int, error) {
 	}
 	v, err := strconv.ParseFloat(s[:i], 64)
 	if err != nil || math.Abs(v) > svgMaxMagnitude {
-		return 0, i, fmt.Errorf("number %s is out of range (at most %g in magnitude)", s[:i], svgMaxMagnitude)
+		return 0, i, fmt.Errorf("number %s is out of range (at most %g in magnitude)", svgShort(s[:i]), svgMaxMagnitude)
 	}
 	return v, i, nil
 }
@@ -116,9 +116,9 @@ func svgParseLengthText(s string) (svgLength, error) {
 	case "", "px", "mm", "cm", "in", "pt", "pc", "%":
 		return svgLength{v, strings.ToLower(u)}, nil
 	case "em", "ex":
-		return svgLength{}, fmt.Errorf("length %q uses the font-relative unit %s, which has no fixed size", s, u)
+		return svgLength{}, fmt.Errorf("length %q uses the font-relative unit %s, which has no fixed size", svgShort(s), u)
 	}
-	return svgLength{}, fmt.Errorf("length %q has unknown unit %q (known: px, mm, cm, in, pt, pc, %%)", s, u)
+	return svgLength{}, fmt.Errorf("length %q has unknown unit %q (known: px, mm, cm, in, pt, pc, %%)", svgShort(s), svgShort(u))
 }
 
 // svgPxPer returns how many CSS pixels (user units at scale 1) one unit is
@@ -149,7 +149,7 @@ func svgUserLength(s string, ref float64) (float64, error) {
 	}
 	if l.unit == "%" {
 		if ref <= 0 {
-			return 0, fmt.Errorf("percentage %q needs a viewport size, and the document gives none", s)
+			return 0, fmt.Errorf("percentage %q needs a viewport size, and the document gives none", svgShort(s))
 		}
 		return l.v / 100 * ref, nil
 	}
@@ -168,10 +168,10 @@ func svgParseViewBox(s string) (svgViewBox, error) {
 		return svgViewBox{}, err
 	}
 	if len(v) != 4 {
-		return svgViewBox{}, fmt.Errorf("viewBox %q has %d numbers, want 4 (min-x min-y width height)", s, len(v))
+		return svgViewBox{}, fmt.Errorf("viewBox %q has %d numbers, want 4 (min-x min-y width height)", svgShort(s), len(v))
 	}
 	if v[2] <= 0 || v[3] <= 0 {
-		return svgViewBox{}, fmt.Errorf("viewBox %q has width or height <= 0", s)
+		return svgViewBox{}, fmt.Errorf("viewBox %q has width or height <= 0", svgShort(s))
 	}
 	return svgViewBox{v[0], v[1], v[2], v[3]}, nil
 }
@@ -196,7 +196,7 @@ func svgParseAspect(s string) (svgAspect, error) {
 		return a, nil
 	}
 	if len(f) > 2 {
-		return a, fmt.Errorf("preserveAspectRatio %q has too many words", s)
+		return a, fmt.Errorf("preserveAspectRatio %q has too many words", svgShort(s))
 	}
 	frac := map[string]float64{"Min": 0, "Mid": 0.5, "Max": 1}
 	if f[0] == "none" {
@@ -210,7 +210,7 @@ func svgParseAspect(s string) (svgAspect, error) {
 			fy, oky = frac[f[0][5:8]]
 		}
 		if !ok || !okx || !oky {
-			return a, fmt.Errorf("preserveAspectRatio %q: unknown alignment %q", s, f[0])
+			return a, fmt.Errorf("preserveAspectRatio %q: unknown alignment %q", svgShort(s), svgShort(f[0]))
 		}
 		a.ax, a.ay = fx, fy
 	}
@@ -220,7 +220,7 @@ func svgParseAspect(s string) (svgAspect, error) {
 		case "slice":
 			a.slice = true
 		default:
-			return a, fmt.Errorf("preserveAspectRatio %q: %q is neither meet nor slice", s, f[1])
+			return a, fmt.Errorf("preserveAspectRatio %q: %q is neither meet nor slice", svgShort(s), svgShort(f[1]))
 		}
 	}
 	return a, nil
