@@ -204,10 +204,19 @@ func (s *asmState) collect(ds []*Drawing) error {
 	groupIdx := map[[2]int]int{}
 	lo := r2.Vec{X: math.Inf(1), Y: math.Inf(1)}
 	hi := r2.Vec{X: math.Inf(-1), Y: math.Inf(-1)}
+	total := 0
+	for _, d := range ds {
+		if d != nil {
+			total += len(d.Polylines)
+		}
+	}
+	s.refs = make([]asmRef, 0, total)
+	lastSurf, lastGroup := -1, -1 // consecutive polylines mostly share both
 	for di, d := range ds {
 		if d == nil {
 			continue
 		}
+		lastSurf, lastGroup = -1, -1
 		for pi := range d.Polylines {
 			pl := &d.Polylines[pi]
 			if len(pl.Points) == 0 {
@@ -227,19 +236,26 @@ func (s *asmState) collect(ds []*Drawing) error {
 					What: fmt.Sprintf("fill group %d has no fill rule (the drawing has %d)", pl.Group, len(d.FillRules)),
 					Hint: "this is a reader defect; please report it with the file"}
 			}
-			si, ok := surfIdx[pl.Surface]
-			if !ok {
-				si = len(s.surfs)
-				surfIdx[pl.Surface] = si
-				s.surfs = append(s.surfs, pl.Surface)
+			si := lastSurf
+			if si < 0 || s.surfs[si] != pl.Surface {
+				var ok bool
+				if si, ok = surfIdx[pl.Surface]; !ok {
+					si = len(s.surfs)
+					surfIdx[pl.Surface] = si
+					s.surfs = append(s.surfs, pl.Surface)
+				}
 			}
-			gk := [2]int{di, pl.Group}
-			gi, ok := groupIdx[gk]
-			if !ok {
-				gi = len(s.rules)
-				groupIdx[gk] = gi
-				s.rules = append(s.rules, d.FillRules[pl.Group])
+			gi := lastGroup
+			if gi < 0 || s.refs[len(s.refs)-1].pl.Group != pl.Group {
+				gk := [2]int{di, pl.Group}
+				var ok bool
+				if gi, ok = groupIdx[gk]; !ok {
+					gi = len(s.rules)
+					groupIdx[gk] = gi
+					s.rules = append(s.rules, d.FillRules[pl.Group])
+				}
 			}
+			lastSurf, lastGroup = si, gi
 			s.refs = append(s.refs, asmRef{d: di, p: pi, pl: pl, file: d.File, surf: si, group: gi})
 		}
 	}

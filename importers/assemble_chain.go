@@ -1,11 +1,8 @@
 package importers
 
 import (
-	"cmp"
 	"fmt"
-	"hash/fnv"
 	"math"
-	"slices"
 	"strings"
 
 	"gonum.org/v1/gonum/spatial/r2"
@@ -27,182 +24,6 @@ type asmLoop struct {
 type asmPiece struct {
 	ref int32
 	pts []r2.Vec // at least two points, no exact repeats in a row
-}
-
-// asmCell is a hash-grid cell.
-type asmCell struct{ x, y int64 }
-
-// asmGrid is a hash grid of points with square cells, for finding every
-// point within the cell size of a query in O(1) on ordinary drawings.
-type asmGrid struct {
-	h    float64
-	head map[asmCell]int32 // first point in the cell, -1 terminated list via next
-	next []int32
-	pts  []r2.Vec
-}
-
-// asmNewGrid indexes pts with cells of size h. h is raised to a few ulps of
-// the largest coordinate so that cell indices stay within int64.
-func asmNewGrid(pts []r2.Vec, h, maxAbs float64) *asmGrid {
-	h = max(h, maxAbs*1e-15, math.SmallestNonzeroFloat64*1e10)
-	g := &asmGrid{h: h, head: make(map[asmCell]int32, len(pts)), next: make([]int32, len(pts)), pts: pts}
-	for i := len(pts) - 1; i >= 0; i-- {
-		c := g.cell(pts[i])
-		if j, ok := g.head[c]; ok {
-			g.next[i] = j
-		} else {
-			g.next[i] = -1
-		}
-		g.head[c] = int32(i)
-	}
-	return g
-}
-
-func (g *asmGrid) cell(p r2.Vec) asmCell {
-	return asmCell{int64(math.Floor(p.X / g.h)), int64(math.Floor(p.Y / g.h))}
-}
-
-// near calls f for every indexed point within the 3x3 cells around p, in
-// increasing index order within each cell.
-func (g *asmGrid) near(p r2.Vec, f func(i int)) {
-	c := g.cell(p)
-	for dx := int64(-1); dx <= 1; dx++ {
-		for dy := int64(-1); dy <= 1; dy++ {
-			j, ok := g.head[asmCell{c.x + dx, c.y + dy}]
-			for ok && j >= 0 {
-				f(int(j))
-				j = g.next[j]
-			}
-		}
-	}
-}
-
-// asmDedupe returns pts without exact repeated neighbours; for a closed
-// polyline also without trailing copies of the first point.
-func asmDedupe(pts []r2.Vec, closed bool) []r2.Vec {
-	out := make([]r2.Vec, 0, len(pts))
-	for _, p := range pts {
-		if len(out) > 0 && out[len(out)-1] == p {
-			continue
-		}
-		out = append(out, p)
-	}
-	for closed && len(out) > 1 && out[len(out)-1] == out[0] {
-		out = out[:len(out)-1]
-	}
-	return out
-}
-
-func asmCmpVec(a, b r2.Vec) int {
-	if c := cmp.Compare(a.X, b.X); c != 0 {
-		return c
-	}
-	return cmp.Compare(a.Y, b.Y)
-}
-
-// asmCanonical returns the points of a polyline in a form that is equal for
-// exact duplicates whatever their direction (and, when closed, starting
-// vertex): the lexicographically smallest of the readings.
-func asmCanonical(pts []r2.Vec, closed bool) []r2.Vec {
-	n := len(pts)
-	out := make([]r2.Vec, n)
-	if !closed {
-		rev := false
-		for i := range n {
-			if c := asmCmpVec(pts[i], pts[n-1-i]); c != 0 {
-				rev = c > 0
-				break
-			}
-		}
-		for i := range n {
-			if rev {
-				out[i] = pts[n-1-i]
-			} else {
-				out[i] = pts[i]
-			}
-		}
-		return out
-	}
-	m := 0
-	for i := 1; i < n; i++ {
-		if asmCmpVec(pts[i], pts[m]) < 0 {
-			m = i
-		}
-	}
-	back := false
-	for k := 1; k < n; k++ {
-		if c := asmCmpVec(pts[(m+k)%n], pts[(m-k+n)%n]); c != 0 {
-			back = c > 0
-			break
-		}
-	}
-	for k := range n {
-		if back {
-			out[k] = pts[(m-k+n)%n]
-		} else {
-			out[k] = pts[(m+k)%n]
-		}
-	}
-	return out
-}
-
-func asmHash(pts []r2.Vec, closed bool) uint64 {
-	h := fnv.New64a()
-	var b [16]byte
-	if closed {
-		h.Write([]byte{1})
-	}
-	for _, p := range pts {
-		x, y := math.Float64bits(p.X+0), math.Float64bits(p.Y+0) // +0 folds -0 into 0
-		for i := range 8 {
-			b[i], b[8+i] = byte(x>>(8*i)), byte(y>>(8*i))
-		}
-		h.Write(b[:])
-	}
-	return h.Sum64()
-}
-
-// prepare removes exact repeated vertices, drops exact duplicate polylines
-// and zero-length pieces with a warning, and splits the rest into open
-// pieces and closed loops.
-func (s *asmState) prepare() ([]asmPiece, []asmLoop) {
-	var pieces []asmPiece
-	var loops []asmLoop
-	seen := map[uint64][]int{}
-	canon := map[int][]r2.Vec{}
-	for ri := range s.refs {
-		r := &s.refs[ri]
-		pts := asmDedupe(r.pl.Points, r.pl.Closed)
-		if len(pts) < 2 {
-			s.warnings = append(s.warnings, fmt.Sprintf("%s has zero length; ignored", s.describe(ri)))
-			continue
-		}
-		c := asmCanonical(pts, r.pl.Closed)
-		key := asmHash(c, r.pl.Closed)
-		dup := -1
-		for _, o := range seen[key] {
-			if s.refs[o].pl.Closed == r.pl.Closed && slices.Equal(canon[o], c) {
-				dup = o
-				break
-			}
-		}
-		if dup >= 0 {
-			s.warnings = append(s.warnings, fmt.Sprintf("%s is an exact duplicate of %s; dropped", s.describe(ri), s.describe(dup)))
-			continue
-		}
-		seen[key] = append(seen[key], ri)
-		canon[ri] = c
-		if !r.pl.Closed {
-			pieces = append(pieces, asmPiece{ref: int32(ri), pts: pts})
-			continue
-		}
-		l := asmLoop{pts: pts, surf: make([]int, len(pts)), ref: make([]int32, len(pts)), group: r.group}
-		for i := range pts {
-			l.surf[i], l.ref[i] = r.surf, int32(ri)
-		}
-		loops = append(loops, l)
-	}
-	return pieces, loops
 }
 
 // chain joins open pieces whose ends lie within the tolerance into loops and
@@ -231,21 +52,19 @@ func (s *asmState) chain(pieces []asmPiece) []asmLoop {
 	}
 	g := asmNewGrid(ends, s.tol, s.maxAbs)
 	tol2 := s.tol * s.tol
-	for e := range ends {
-		g.near(ends[e], func(f int) {
-			if f <= e {
-				return
-			}
-			d := r2.Sub(ends[e], ends[f])
-			if d.X*d.X+d.Y*d.Y > tol2 {
-				return
-			}
-			a, b := find(e), find(f)
-			if a != b { // the smaller end index stays root, so the root is the first end in file order
-				parent[max(a, b)] = int32(min(a, b))
-			}
-		})
-	}
+	g.eachNear(func(e, f int) {
+		if f <= e {
+			return
+		}
+		d := r2.Sub(ends[e], ends[f])
+		if d.X*d.X+d.Y*d.Y > tol2 {
+			return
+		}
+		a, b := find(e), find(f)
+		if a != b { // the smaller end index stays root, so the root is the first end in file order
+			parent[max(a, b)] = int32(min(a, b))
+		}
+	})
 	root := make([]int32, 2*n)
 	deg := make([]int32, 2*n)
 	other := make([]int32, 2*n) // for degree-2 clusters: the other end
@@ -400,15 +219,12 @@ func (s *asmState) reportOpenEnds(ends []r2.Vec, deg, root []int32, pieces []asm
 	dist := make([]float64, len(open))
 	for i := range open {
 		nearest[i], dist[i] = -1, math.Inf(1)
-		g.near(pts[i], func(j int) {
-			if j == i {
-				return
-			}
-			if d := r2.Norm(r2.Sub(pts[i], pts[j])); d <= reach && d < dist[i] {
-				nearest[i], dist[i] = j, d
-			}
-		})
 	}
+	g.eachNear(func(i, j int) {
+		if d := r2.Norm(r2.Sub(pts[i], pts[j])); d <= reach && (d < dist[i] || d == dist[i] && j < nearest[i]) {
+			nearest[i], dist[i] = j, d
+		}
+	})
 	for i, e := range open {
 		ref := int(pieces[e/2].ref)
 		j := nearest[i]

@@ -170,7 +170,11 @@ func TestAssembleAreas(t *testing.T) {
 func asmCanonLoops(o *Outline) []string {
 	var out []string
 	for _, l := range o.Loops {
-		c := asmCanonical(l.Points, true)
+		rd := asmCanonicalReading(l.Points, true)
+		var c []r2.Vec
+		for k := range l.Points {
+			c = append(c, rd.at(l.Points, k))
+		}
 		if l.Area() < 0 {
 			c = append(c, asmV(-1, -1)) // keep the orientation in the key
 		}
@@ -506,7 +510,9 @@ func TestAssembleBadInput(t *testing.T) {
 // (outer and inner circles): nTubes*2+2 loops. With soup the cavity and the
 // tubes come as LINE pieces, else as closed polylines.
 func asmFurnace(nTubes, seg, cavitySeg int, soup bool) (*Drawing, float64) {
-	const w, h, rOut, rIn = 3.0, 0.6, 0.02, 0.016
+	const w, h = 3.0, 0.6
+	pitch := w / float64(nTubes)
+	rOut, rIn := 0.35*pitch, 0.28*pitch
 	var pls []Polyline
 	pls = append(pls, asmRect(-0.1, -0.1, w+0.1, h+0.1, false, "SHELL"))
 	// The cavity as a rectangle whose sides are split into cavitySeg pieces.
@@ -520,7 +526,6 @@ func asmFurnace(nTubes, seg, cavitySeg int, soup bool) (*Drawing, float64) {
 	}
 	cavity := Polyline{Points: cav, Closed: true, Surface: "CAVITY"}
 	var tubes []Polyline
-	pitch := w / float64(nTubes)
 	for i := range nTubes {
 		cx := pitch * (float64(i) + 0.5)
 		tubes = append(tubes, asmCircle(cx, h/2, rOut, seg, false, "TUBES"), asmCircle(cx, h/2, rIn, seg, false, "BORE"))
@@ -577,5 +582,105 @@ func BenchmarkAssemble(b *testing.B) {
 			}
 			b.ReportMetric(float64(edges)*float64(b.N)/b.Elapsed().Seconds(), "edges/s")
 		})
+	}
+}
+
+// asmRawWinding is the signed winding number of the closed polygon pts
+// around p (plain ray cast, independent of the code under test).
+func asmRawWinding(pts []r2.Vec, p r2.Vec) int {
+	return asmWinding(&Outline{Loops: []Loop{{Points: pts}}}, p)
+}
+
+// TestAssembleFillRuleProperty checks the fill rules point by point against
+// their definition (SVG 1.1 section 11.4 'fill-rule': nonzero tests the
+// winding number, evenodd its parity; a point is solid when any group makes
+// it solid): random nested and disjoint circles, random orientations, groups
+// and rules, drawn closed or as shuffled arcs. At random points the outline
+// must wind once where the definition says solid and zero times elsewhere.
+func TestAssembleFillRuleProperty(t *testing.T) {
+	for seed := range uint64(40) {
+		rng := rand.New(rand.NewPCG(seed, 7))
+		nGroups := 1 + rng.IntN(3)
+		rules := make([]FillRule, nGroups)
+		for g := range rules {
+			rules[g] = FillRule(rng.IntN(2))
+		}
+		type circ struct{ x, y, r float64 }
+		var cs []circ
+		for len(cs) < 12 {
+			c := circ{rng.Float64() * 10, rng.Float64() * 10, 0.2 + rng.Float64()*4}
+			ok := true
+			for _, o := range cs { // boundaries at least 5 % of the radii apart
+				d := math.Hypot(c.x-o.x, c.y-o.y)
+				if !(d > (c.r+o.r)*1.05 || d < math.Abs(c.r-o.r)*0.95-0.05*max(c.r, o.r)) {
+					ok = false
+					break
+				}
+			}
+			if ok {
+				cs = append(cs, c)
+			}
+		}
+		var pls []Polyline
+		var circleOf []int // the circle each polyline belongs to
+		for i, c := range cs {
+			p := asmCircle(c.x, c.y, c.r, 24, rng.IntN(2) == 0, fmt.Sprintf("S%d", i%3))
+			p.Group = rng.IntN(nGroups)
+			if seed%2 == 1 { // as four arcs, shuffled below, some reversed
+				for k := range 4 {
+					arc := slices.Clone(p.Points[6*k : 6*k+6])
+					arc = append(arc, p.Points[(6*k+6)%24])
+					if rng.IntN(3) == 0 {
+						slices.Reverse(arc)
+					}
+					pls = append(pls, Polyline{Points: arc, Surface: p.Surface, Group: p.Group})
+					circleOf = append(circleOf, i)
+				}
+				continue
+			}
+			pls = append(pls, p)
+			circleOf = append(circleOf, i)
+		}
+		rng.Shuffle(len(pls), func(i, j int) {
+			pls[i], pls[j] = pls[j], pls[i]
+			circleOf[i], circleOf[j] = circleOf[j], circleOf[i]
+		})
+		o, _, err := Assemble([]*Drawing{asmTestDrawing(rules, pls...)}, AssembleOptions{})
+		if err != nil {
+			t.Fatalf("seed %d: Assemble: %v", seed, err)
+		}
+		// Each circle as drawn: a chained loop runs the way its first piece
+		// in file order was drawn (Assemble's documented convention).
+		loops := make([][]r2.Vec, len(cs))
+		groups := make([]int, len(cs))
+		for i, p := range pls {
+			c := cs[circleOf[i]]
+			if loops[circleOf[i]] != nil {
+				continue
+			}
+			ccw := asmOrient(asmV(c.x, c.y), p.Points[0], p.Points[1]) > 0
+			loops[circleOf[i]] = asmCircle(c.x, c.y, c.r, 24, !ccw, "").Points
+			groups[circleOf[i]] = p.Group
+		}
+		bad := 0
+		for range 3000 {
+			p := asmV(rng.Float64()*16-3, rng.Float64()*16-3)
+			w := make([]int, nGroups)
+			for i, l := range loops {
+				w[groups[i]] += asmRawWinding(l, p)
+			}
+			solid := false
+			for g, r := range rules {
+				solid = solid || (r == NonZero && w[g] != 0) || (r == EvenOdd && w[g]%2 != 0)
+			}
+			want := 0
+			if solid {
+				want = 1
+			}
+			if got := asmWinding(o, p); got != want && bad < 5 {
+				bad++
+				t.Errorf("seed %d: outline winds %d times around %v, want %d (group windings %v, rules %v)", seed, got, p, want, w, rules)
+			}
+		}
 	}
 }
