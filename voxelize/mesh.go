@@ -310,10 +310,10 @@ type m3Job struct {
 }
 
 type m3BlockResult struct {
-	volume, area                             float64
-	winding, lowConf, band, feature, approx  int
-	closeCells                               int
-	close                                    *CloseSurfaces
+	volume, area                            float64
+	winding, lowConf, band, feature, approx int
+	closeCells                              int
+	close                                   *CloseSurfaces
 }
 
 func newM3Job(m *importers.Mesh, x *importers.MeshIndex, g masks.Grid, opts Options, rep *MeshReport) *m3Job {
