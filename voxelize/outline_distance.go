@@ -38,9 +38,9 @@ type o2Params struct {
 	invArea  float64 // 1/cell area, 1/m^2
 }
 
-// voxelize fills every field of out. Labels of the nearest edge are kept in
-// one int32 per cell: k >= 0 is exact (found within the band), -1 is none yet
-// and -(k+2) is edge k propagated from the band.
+// voxelize fills every field of out. The nearest edge of each cell within
+// the band is kept in labels (-1 beyond it); beyond the band the nearest
+// surface comes from labels propagated over blocks of cells (o2Coarse).
 func (g *o2Geom) voxelize(ctx context.Context, out o2Outputs, opts Options) error {
 	p := o2Params{
 		dh:       opts.DistanceBandCells() * g.h,
@@ -64,19 +64,21 @@ func (g *o2Geom) voxelize(ctx context.Context, out o2Outputs, opts Options) erro
 			best:  make([]float64, n),
 		}
 	}
+	coarse := g.newCoarse()
 	err := outlineRun(ctx, g.nBands(), nw, func(w, b int) {
 		sc := &scratch[w]
 		g.coverBand(b, &cover, out.frac, &sc.cover)
 		g.nearestBand(b, &near, labels, sc, p.r)
 		g.finishBand(b, &near, labels, sc, out, p)
+		g.seedCoarse(b, labels, coarse)
 	})
 	if err != nil {
 		return err
 	}
-	if err := g.propagateLabels(ctx, labels); err != nil {
+	if err := g.propagateLabels(ctx, coarse); err != nil {
 		return err
 	}
-	return outlineRun(ctx, g.nBands(), nw, func(_, b int) { g.tagBand(b, labels, out) })
+	return outlineRun(ctx, g.nBands(), nw, func(_, b int) { g.tagBand(b, labels, coarse, out) })
 }
 
 // emptyFields fills the fields for an outline without edges: all fluid, far

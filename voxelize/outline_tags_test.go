@@ -94,6 +94,7 @@ func TestOutlineDefaultTagsAndFarOutline(t *testing.T) {
 	}{
 		{"square in the grid", outlineTestTaggedSquare(), map[int32]bool{1: true, 2: true, 3: true, 4: true}, false},
 		{"square far to the right", &importers.Outline{Loops: []importers.Loop{outlineTestRect(6, 20, 0.2, 21, 0.8, true)}}, map[int32]bool{7: true}, false},
+		{"two surfaces far away", &importers.Outline{Loops: []importers.Loop{outlineTestRect(6, 20, 0.2, 21, 0.8, true), outlineTestRect(7, -9, -8, -8, -7, true)}}, map[int32]bool{7: true, 8: true}, false},
 		{"grid inside a large solid", &importers.Outline{Loops: []importers.Loop{outlineTestRect(2, -30, -30, 30, 30, true)}}, map[int32]bool{3: true}, true},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
