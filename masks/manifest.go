@@ -145,6 +145,9 @@ func NewManifest(m *Mask, p Provenance) *Manifest {
 // Statistics are written as strings; anything else JSON cannot hold (a
 // channel in Options, say) gives an error.
 func WriteManifest(w io.Writer, man *Manifest) error {
+	if man == nil {
+		return fmt.Errorf("manifest: nil manifest")
+	}
 	c := *man
 	if c.Statistics != nil {
 		c.Statistics = manFinite(c.Statistics).(map[string]any)

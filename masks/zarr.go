@@ -113,10 +113,13 @@ func zarrSetup(g Grid, opts ZarrOptions) ([]int, *zarrCompressor, error) {
 // dir/<name>/.zattrs and one chunk file per chunk. Arrays have the .npy
 // shape, dtype and C order, fill_value 0, no filters, and dimension
 // separator "."; edge chunks are stored at full size, padded with the fill
-// value, as the specification requires. Every file goes through
-// WriteFileAtomic, and compression is deterministic, so the same mask gives
-// the same bytes on every run and for any opts.Workers. A nil man writes
-// NewManifest(m, Provenance{}).
+// value, as the specification requires. Every file is written to a
+// temporary name and renamed into place, but not fsynced, as a store may
+// hold thousands of files: an interrupted process cannot leave a partial
+// file, a power cut can (WriteDir's fsynced manifest, written last, is the
+// commit point for a whole output folder). Compression is
+// deterministic, so the same mask gives the same bytes on every run and for
+// any opts.Workers. A nil man writes NewManifest(m, Provenance{}).
 //
 // Cost: one pass over every field, dominated by compression (zlib level 6
 // runs at very roughly 50-100 MB/s per core here).
@@ -141,7 +144,8 @@ func WriteZarr(dir string, m *Mask, man *Manifest, opts ZarrOptions) error {
 // WriteZarrMeta writes the metadata of a store for m without any chunk:
 // .zgroup, the group's .zattrs (man) and every array's .zarray and .zattrs.
 // Together with WriteZarrChunks it lets a parallel build write the metadata
-// once (from one rank) and the chunks from whichever rank computed them.
+// once (from one rank) and the chunks from whichever rank computed them. A
+// nil man writes NewManifest(m, Provenance{}).
 func WriteZarrMeta(dir string, m *Mask, man *Manifest, opts ZarrOptions) error {
 	g := m.Grid
 	if err := g.Validate(); err != nil {
@@ -150,6 +154,9 @@ func WriteZarrMeta(dir string, m *Mask, man *Manifest, opts ZarrOptions) error {
 	chunks, comp, err := zarrSetup(g, opts)
 	if err != nil {
 		return err
+	}
+	if man == nil {
+		man = NewManifest(m, Provenance{})
 	}
 	for _, f := range m.Fields {
 		if err := npyCheckField(g, f); err != nil {
@@ -165,7 +172,7 @@ func WriteZarrMeta(dir string, m *Mask, man *Manifest, opts ZarrOptions) error {
 	if err := zarrWriteJSON(filepath.Join(dir, ".zgroup"), map[string]int{"zarr_format": 2}); err != nil {
 		return err
 	}
-	if err := WriteFileAtomic(filepath.Join(dir, ".zattrs"), func(w io.Writer) error { return WriteManifest(w, man) }); err != nil {
+	if err := outWriteAtomic(filepath.Join(dir, ".zattrs"), false, 1<<16, func(w io.Writer) error { return WriteManifest(w, man) }); err != nil {
 		return err
 	}
 	dims := []string{"y", "x"}
@@ -205,7 +212,7 @@ func zarrWriteJSON(path string, v any) error {
 	if err != nil {
 		return err
 	}
-	return WriteFileAtomic(path, func(w io.Writer) error {
+	return outWriteAtomic(path, false, 0, func(w io.Writer) error {
 		_, err := w.Write(b)
 		return err
 	})
@@ -315,10 +322,11 @@ type zarrEncoder struct {
 func zarrNewEncoder(comp *zarrCompressor) *zarrEncoder {
 	e := &zarrEncoder{comp: comp}
 	if comp != nil && comp.ID == "zstd" {
-		// Single-threaded and with the frame content size, which numcodecs'
-		// decoder needs to size its output.
+		// Single-threaded, and single-segment so that the frame content
+		// size is stored even for chunks under 256 bytes: numcodecs' decoder
+		// (0.11) refuses frames without it.
 		e.zstd, _ = zstd.NewWriter(nil, zstd.WithEncoderLevel(zstd.EncoderLevelFromZstd(comp.Level)),
-			zstd.WithEncoderConcurrency(1), zstd.WithZeroFrames(true))
+			zstd.WithEncoderConcurrency(1), zstd.WithZeroFrames(true), zstd.WithSingleSegment(true))
 	}
 	return e
 }
@@ -388,7 +396,7 @@ func zarrWriteChunk(arrayDir string, g Grid, f *Field, chunks []int, c ZarrChunk
 	if comps > 1 {
 		parts = append(parts, "0")
 	}
-	return WriteFileAtomic(filepath.Join(arrayDir, strings.Join(parts, ".")), func(w io.Writer) error {
+	return outWriteAtomic(filepath.Join(arrayDir, strings.Join(parts, ".")), false, 0, func(w io.Writer) error {
 		_, err := w.Write(data)
 		return err
 	})
