@@ -41,6 +41,7 @@ type dxfEmitter struct {
 // run emits every model-space entity, then the summary warnings.
 func (em *dxfEmitter) run() error {
 	em.seen = map[string]bool{}
+	em.dropped = em.f.dropped
 	memo, visiting, total := map[string]int{}, map[string]bool{}, 0
 	for _, e := range em.f.entities {
 		if total += em.count(e, memo, visiting); total > dxfMaxInstances {
@@ -241,7 +242,10 @@ func (em *dxfEmitter) add(e *dxfEntity, pts []r2.Vec, closed bool, xf dxfXform, 
 		}
 		out = append(out, w)
 	}
-	if closed && len(out) > 1 && out[0] == out[len(out)-1] {
+	// A closed curve that ends where it starts, up to rounding, does not
+	// repeat its first point; 1e-3 of the chord tolerance is far below any
+	// feature the tolerance lets through.
+	if closed && len(out) > 1 && r2.Norm(r2.Sub(out[0], out[len(out)-1])) <= 1e-3*em.opts.chordTolerance() {
 		out = out[:len(out)-1]
 	}
 	switch {

@@ -70,7 +70,17 @@ type dxfFile struct {
 	entities    []*dxfEntity
 	blocks      map[string]*dxfBlock // by upper-case name; DXF block names ignore case
 	warnings    []string
+	dropped     int       // parse warnings beyond dxfMaxWarnings
 	pairs       []dxfPair // reused buffer for one entity's pairs
+}
+
+// warn records a parse warning; past dxfMaxWarnings they are only counted.
+func (f *dxfFile) warn(msg string) {
+	if len(f.warnings) >= dxfMaxWarnings {
+		f.dropped++
+		return
+	}
+	f.warnings = append(f.warnings, msg)
 }
 
 // truncated reports a file that ends inside a section.
@@ -115,7 +125,7 @@ func (f *dxfFile) parse(rd *dxfReader) error {
 					What: "no SECTION found; expected ASCII DXF (pairs of group code and value lines)",
 					Hint: "check that the file is a DXF drawing; export it again as ASCII DXF"}
 			}
-			f.warnings = append(f.warnings, fmt.Sprintf("line %d: the file ends without EOF; read what it holds", rd.line))
+			f.warn(fmt.Sprintf("line %d: the file ends without EOF; read what it holds", rd.line))
 			return nil
 		}
 		if err != nil {
@@ -249,7 +259,7 @@ func (f *dxfFile) parseEntities(rd *dxfReader, inside, end string) ([]*dxfEntity
 		case "SEQEND":
 			continue // closes attributes of an INSERT; a POLYLINE's is consumed below
 		case "VERTEX":
-			f.warnings = append(f.warnings, e.where()+": VERTEX outside a POLYLINE ignored")
+			f.warn(e.where() + ": VERTEX outside a POLYLINE ignored")
 			continue
 		case "POLYLINE":
 			if err := f.parseVertices(rd, inside, e); err != nil {
@@ -272,7 +282,7 @@ func (f *dxfFile) parseVertices(rd *dxfReader, inside string, e *dxfEntity) erro
 		}
 		kind := strings.ToUpper(p.val)
 		if kind != "VERTEX" && kind != "SEQEND" {
-			f.warnings = append(f.warnings, e.where()+": POLYLINE without SEQEND")
+			f.warn(e.where() + ": POLYLINE without SEQEND")
 			return nil
 		}
 		_, _ = rd.next()
@@ -343,7 +353,7 @@ func (f *dxfFile) parseBlocks(rd *dxfReader, inside string) error {
 		}
 		key := strings.ToUpper(b.name)
 		if _, dup := f.blocks[key]; dup {
-			f.warnings = append(f.warnings, fmt.Sprintf("line %d: block %q defined twice; the first definition is used", b.line, b.name))
+			f.warn(fmt.Sprintf("line %d: block %q defined twice; the first definition is used", b.line, b.name))
 			continue
 		}
 		f.blocks[key] = b
