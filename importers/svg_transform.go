@@ -108,6 +108,9 @@ func svgParseTransform(s string) (svgMatrix, error) {
 			}
 			v, adv, err := svgScanNumber(s[k:])
 			if err != nil {
+				if adv > 0 {
+					return m, fmt.Errorf("in %s(...): %v", name, err)
+				}
 				if k >= len(s) {
 					return m, fmt.Errorf("%s( is not closed: ')' expected", name)
 				}
