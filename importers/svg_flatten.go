@@ -359,4 +359,3 @@ func svgArcCentre(from r2.Vec, s svgSegment) (c, u, v r2.Vec, t0, dt float64, ok
 	}
 	return c, u, v, t0, dt, true
 }
-

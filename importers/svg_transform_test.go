@@ -18,16 +18,16 @@ func TestSVGParseTransform(t *testing.T) {
 		in, want r2.Vec
 	}{
 		{"empty", "", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 1, Y: 2}},
-		{"translate x only", "translate(10)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 11, Y: 2}},  // [1 0 0 1 10 0]
-		{"translate", "translate(10,20)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 11, Y: 22}},     // [1 0 0 1 10 20]
-		{"scale uniform", "scale(2)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 2, Y: 4}},           // [2 0 0 2 0 0]
-		{"scale xy", "scale(2 -3)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 2, Y: -6}},            // [2 0 0 -3 0 0]
-		{"rotate", "rotate(90)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: -2, Y: 1}},               // [0 1 -1 0 0 0]
-		{"rotate 30", "rotate(30)", r2.Vec{X: 2, Y: 0}, r2.Vec{X: math.Sqrt(3), Y: 1}},  // [cos30 sin30 -sin30 cos30 0 0]
-		{"rotate about", "rotate(90 10 0)", r2.Vec{X: 20, Y: 0}, r2.Vec{X: 10, Y: 10}},  // translate(10 0) rotate(90) translate(-10 0)
-		{"skewX", "skewX(45)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 3, Y: 2}},                  // [1 0 tan45 1 0 0]
-		{"skewY", "skewY(45)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 1, Y: 3}},                  // [1 tan45 0 1 0 0]
-		{"matrix", "matrix(1 2 3 4 5 6)", r2.Vec{X: 1, Y: 1}, r2.Vec{X: 9, Y: 12}},      // 1+3+5, 2+4+6
+		{"translate x only", "translate(10)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 11, Y: 2}}, // [1 0 0 1 10 0]
+		{"translate", "translate(10,20)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 11, Y: 22}},    // [1 0 0 1 10 20]
+		{"scale uniform", "scale(2)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 2, Y: 4}},          // [2 0 0 2 0 0]
+		{"scale xy", "scale(2 -3)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 2, Y: -6}},           // [2 0 0 -3 0 0]
+		{"rotate", "rotate(90)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: -2, Y: 1}},              // [0 1 -1 0 0 0]
+		{"rotate 30", "rotate(30)", r2.Vec{X: 2, Y: 0}, r2.Vec{X: math.Sqrt(3), Y: 1}}, // [cos30 sin30 -sin30 cos30 0 0]
+		{"rotate about", "rotate(90 10 0)", r2.Vec{X: 20, Y: 0}, r2.Vec{X: 10, Y: 10}}, // translate(10 0) rotate(90) translate(-10 0)
+		{"skewX", "skewX(45)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 3, Y: 2}},                 // [1 0 tan45 1 0 0]
+		{"skewY", "skewY(45)", r2.Vec{X: 1, Y: 2}, r2.Vec{X: 1, Y: 3}},                 // [1 tan45 0 1 0 0]
+		{"matrix", "matrix(1 2 3 4 5 6)", r2.Vec{X: 1, Y: 1}, r2.Vec{X: 9, Y: 12}},     // 1+3+5, 2+4+6
 		{"translate then scale", "translate(10,20) scale(2)", r2.Vec{X: 1, Y: 1}, r2.Vec{X: 12, Y: 22}},
 		{"scale then translate", "scale(2) translate(10,20)", r2.Vec{X: 1, Y: 1}, r2.Vec{X: 22, Y: 42}},
 		{"comma separated", "rotate(90),translate(10 0)", r2.Vec{}, r2.Vec{X: 0, Y: 10}},
