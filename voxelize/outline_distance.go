@@ -168,7 +168,8 @@ func (g *o2Geom) nearestBand(b int, bk *o2Buckets, labels []int32, sc *o2Scratch
 }
 
 // finishBand writes the per-cell fields of band b from the fractions, the
-// band distances and the centre winding test.
+// band distances and the centre winding test. The fields must be zero on
+// entry, as fresh ones are.
 func (g *o2Geom) finishBand(b int, bk *o2Buckets, labels []int32, sc *o2Scratch, out o2Outputs, p o2Params) {
 	nx := g.nx
 	j0 := b * outlineBandRows
@@ -198,15 +199,19 @@ func (g *o2Geom) finishBand(b int, bk *o2Buckets, labels []int32, sc *o2Scratch,
 				d = -d
 			}
 			out.sd[idx] = float32(d)
-			ind := 0.0
-			if inside {
-				ind = 1
-			}
+			// The other fields are zero (fluid, no normal, no length) in fresh
+			// memory, so only values that differ are written: deep fluid costs
+			// one store per cell.
 			if p.eps > 0 {
-				ind = o2SmoothHeaviside(d, p.eps)
+				if v := o2SmoothHeaviside(d, p.eps); v != 0 {
+					out.ind[idx] = float32(v)
+				}
+			} else if inside {
+				out.ind[idx] = 1
 			}
-			out.ind[idx] = float32(ind)
-			out.density[idx] = float32(sc.cover.length[off+i] * p.invArea)
+			if l := sc.cover.length[off+i]; l != 0 {
+				out.density[idx] = float32(l * p.invArea)
+			}
 			f := out.frac[idx]
 			switch {
 			case (f > 0 && f < 1) || math.Abs(d) < p.halfBand:
@@ -217,8 +222,6 @@ func (g *o2Geom) finishBand(b int, bk *o2Buckets, labels []int32, sc *o2Scratch,
 				}
 			case inside:
 				out.region[idx] = masks.RegionSolid
-			default:
-				out.region[idx] = masks.RegionFluid
 			}
 		}
 	}

@@ -16,7 +16,8 @@ type o2CoverScratch struct {
 }
 
 // coverBand computes the exact solid fractions of the rows of band b into
-// frac (the whole grid, x fastest), and, when sc.length is set, the length of
+// frac (the whole grid, x fastest; its rows must be zero on entry, as fresh
+// fields are, which spares a pass over the memory), and, when sc.length is set, the length of
 // outline inside each cell of the band into sc.length.
 //
 // The method is the exact-area scanline rasteriser: the winding number w(p)
@@ -35,7 +36,6 @@ func (g *o2Geom) coverBand(b int, bk *o2Buckets, frac []float64, sc *o2CoverScra
 	j1 := min(j0+outlineBandRows, g.ny)
 	rows := frac[j0*nx : j1*nx]
 	cut := sc.cut[:len(rows)]
-	clear(rows)
 	clear(cut)
 	var length []float64
 	if sc.length != nil {
@@ -180,7 +180,9 @@ func o2PrefixRow(row []float64, cut []bool) {
 	for i := range row {
 		s += row[i]
 		if !cut[i] {
-			s = math.Round(s)
+			if s != 0 && s != 1 { // the common values need no rounding
+				s = math.Round(s)
+			}
 			row[i] = min(max(s, 0), 1)
 			continue
 		}

@@ -398,3 +398,72 @@ func TestOutlineBadInput(t *testing.T) {
 		})
 	}
 }
+
+func TestOutlineFractionsConvexPolygons(t *testing.T) {
+	// Reference: CHECKS.md section 6 (Scardovelli & Zaleski 2000 2-D formula,
+	// outlineSZ). A convex polygon is the intersection of the half-planes of
+	// its edges, so a cell lying wholly inside all of them but one is cut by
+	// that edge's line alone, and its fraction is the line-cut fraction. Cells
+	// holding a vertex (cut by two lines) are checked only through the sum.
+	const tol = 1e-12
+	rot := func(cx, cy, s, a float64) importers.Loop { // square of side s turned by a
+		pts := make([]r2.Vec, 4)
+		for k := range 4 {
+			ang := a + math.Pi/4 + float64(k)*math.Pi/2
+			pts[k] = r2.Vec{X: cx + s/math.Sqrt2*math.Cos(ang), Y: cy + s/math.Sqrt2*math.Sin(ang)}
+		}
+		return outlineTestLoop(0, pts...)
+	}
+	for _, tc := range []struct {
+		name string
+		g    masks.Grid
+		l    importers.Loop
+	}{
+		{"square turned 30 degrees", outlineTestGrid(24, 24, 0, 0, 0.1, 0.1), rot(1.21, 1.17, 1.3, math.Pi/6)},
+		{"square turned 45 degrees, rectangular cells", outlineTestGrid(30, 20, 0, 0, 0.08, 0.12), rot(1.2, 1.2, 1.4, math.Pi/4)},
+		{"square turned 10 degrees", outlineTestGrid(20, 20, 0, 0, 0.1, 0.1), rot(1.03, 0.98, 1.1, 10*math.Pi/180)},
+		{"triangle", outlineTestGrid(25, 25, 0, 0, 0.1, 0.1), outlineTestLoop(0, r2.Vec{X: 0.12, Y: 0.3}, r2.Vec{X: 2.31, Y: 0.77}, r2.Vec{X: 0.93, Y: 2.26})},
+		{"thin triangle", outlineTestGrid(40, 10, 0, 0, 0.05, 0.1), outlineTestLoop(0, r2.Vec{X: 0.07, Y: 0.41}, r2.Vec{X: 1.93, Y: 0.52}, r2.Vec{X: 0.3, Y: 0.61})},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			o := &importers.Outline{Loops: []importers.Loop{tc.l}}
+			f, err := OutlineFractions(context.Background(), o, tc.g, 2)
+			if err != nil {
+				t.Fatal(err)
+			}
+			n := len(tc.l.Points)
+			checked := 0
+			for j := range tc.g.Cells[1] {
+				for i := range tc.g.Cells[0] {
+					c := tc.g.Center(i, j, 0)
+					want, cuts := 1.0, 0
+					for e := range n {
+						p, q := tc.l.Points[e], tc.l.Points[(e+1)%n]
+						dx, dy := q.X-p.X, q.Y-p.Y
+						l := math.Hypot(dx, dy)
+						nx, ny := dy/l, -dx/l // outward: the solid is on the left
+						v := outlineSZ(nx, ny, tc.g.Spacing[0], tc.g.Spacing[1], nx*(c[0]-p.X)+ny*(c[1]-p.Y))
+						if v < 1 {
+							cuts++
+							want = v
+						}
+						if v == 0 {
+							cuts = 1
+							break
+						}
+					}
+					if cuts > 1 {
+						continue
+					}
+					checked++
+					if got := f[tc.g.Index(i, j, 0)]; math.Abs(got-want) > tol {
+						t.Errorf("fraction(%d, %d) = %.15f, want line-cut %.15f ± %g", i, j, got, want, tol)
+					}
+				}
+			}
+			if checked < tc.g.NumCells()*9/10 {
+				t.Errorf("only %d of %d cells checked", checked, tc.g.NumCells())
+			}
+		})
+	}
+}
