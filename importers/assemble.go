@@ -112,7 +112,8 @@ func (r *AssemblyReport) Fatal() *Problem {
 // overlapping edges and degenerate loops with coordinates and source lines.
 // When any problem but a degenerate loop is found, Assemble returns the
 // Outline it could build, the report and an *InputError naming the first
-// problem. No polylines at all is an *InputError as well. Cost: O(n log n) for
+// problem. No polylines at all, or no loop left that bounds a solid, is an
+// *InputError as well. Cost: O(n log n) for
 // n vertices on ordinary drawings (sorting and grids); nesting tests one
 // vertex per candidate parent after a bounding-box filter.
 func Assemble(ds []*Drawing, opts AssembleOptions) (*Outline, *AssemblyReport, error) {
@@ -163,6 +164,12 @@ func Assemble(ds []*Drawing, opts AssembleOptions) (*Outline, *AssemblyReport, e
 	rep.Warnings = s.warnings
 	if p := rep.Fatal(); p != nil {
 		return o, rep, asmProblemError(p, rep)
+	}
+	if len(o.Loops) == 0 {
+		r := s.refs[0]
+		return o, rep, &InputError{File: r.file, Line: r.pl.Line, Offset: -1, Entity: r.pl.Where,
+			What: fmt.Sprintf("no loop bounds a solid: %d closed loops found, none separates solid from fluid", rep.Loops),
+			Hint: "check the fill rule and the direction of the loops, and that the outline encloses some area"}
 	}
 	return o, rep, nil
 }
@@ -314,7 +321,7 @@ func (s *asmState) describe(ref int) string {
 	if place == "" {
 		place = fmt.Sprintf("polyline %d", r.p+1)
 	}
-	if r.d > 0 || (len(s.refs) > 0 && s.refs[len(s.refs)-1].d != s.refs[0].d) {
+	if s.refs[len(s.refs)-1].d != s.refs[0].d { // several files: say which
 		place = r.file + " " + place
 	}
 	return fmt.Sprintf("%s (surface %q)", place, r.pl.Surface)

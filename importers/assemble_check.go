@@ -47,7 +47,9 @@ func asmNewSegGrid(es *asmEdgeSet) *asmSegGrid {
 		}
 	}
 	w, ht := hi.X-lo.X, hi.Y-lo.Y
-	h := max(total/float64(n), math.Sqrt(w*ht/float64(4*n)), 1e-12*max(w, ht), math.SmallestNonzeroFloat64*1e10)
+	// At least the mean edge length, and few enough cells that there are at
+	// most about 12 per edge even when the loops lie far apart.
+	h := max(total/float64(n), math.Sqrt(w*ht/float64(4*n)), max(w, ht)/float64(4*n), math.SmallestNonzeroFloat64*1e10)
 	g := &asmSegGrid{lo: lo, h: h, nx: int(w/h) + 1, ny: int(ht/h) + 1}
 	g.start = make([]int32, g.nx*g.ny+1)
 	for e := range n {
@@ -205,14 +207,9 @@ func (s *asmState) testPair(es *asmEdgeSet, i, j int) {
 		lo1, hi1 := min(proj(a), proj(b)), max(proj(a), proj(b))
 		lo2, hi2 := min(proj(c), proj(d)), max(proj(c), proj(d))
 		if lo, hi := max(lo1, lo2), min(hi1, hi2); lo < hi {
-			// The overlap runs between the two middle points of the four.
-			var mid []r2.Vec
-			for _, p := range []r2.Vec{a, b, c, d} {
-				if v := proj(p); v >= lo && v <= hi && len(mid) < 2 {
-					mid = append(mid, p)
-				}
-			}
-			at := r2.Scale(0.5, r2.Add(mid[0], mid[len(mid)-1]))
+			// The middle of the overlap, on ab.
+			t := ((lo+hi)/2 - proj(a)) / (proj(b) - proj(a))
+			at := r2.Add(a, r2.Scale(t, r2.Sub(b, a)))
 			s.reportPair(ProblemDuplicateEdge, es, i, j, at, fmt.Sprintf("overlap of %s", asmLength(hi-lo)))
 			return
 		}

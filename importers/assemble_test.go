@@ -494,6 +494,7 @@ func TestAssembleBadInput(t *testing.T) {
 		{"only empty polylines", []*Drawing{asmTestDrawing(nil, Polyline{Surface: "A"})}, AssembleOptions{}, true, "no outlines"},
 		{"negative tolerance", []*Drawing{asmTestDrawing(nil, asmRect(0, 0, 1, 1, false, "A"))}, AssembleOptions{Tolerance: -1}, false, "tolerance"},
 		{"NaN coordinate", []*Drawing{asmTestDrawing(nil, Polyline{Points: []r2.Vec{asmV(0, 0), asmV(math.NaN(), 1)}})}, AssembleOptions{}, true, "not a finite"},
+		{"only a degenerate loop", []*Drawing{asmTestDrawing(nil, Polyline{Points: []r2.Vec{asmV(0, 0), asmV(1, 1), asmV(2, 2)}, Closed: true})}, AssembleOptions{}, true, "no loop bounds a solid"},
 		{"group without rule", []*Drawing{asmTestDrawing(nil, Polyline{Points: []r2.Vec{asmV(0, 0), asmV(1, 1)}, Group: 3})}, AssembleOptions{}, true, "fill group 3"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
@@ -683,4 +684,61 @@ func TestAssembleFillRuleProperty(t *testing.T) {
 			}
 		}
 	}
+}
+
+// FuzzAssemble feeds polylines on a small integer lattice (so ends, vertices
+// and collinear edges coincide often) to Assemble. Whatever the input it must
+// not panic, must fail only with *InputError, and an outline it accepts must
+// wind exactly 0 or 1 times around every probe point, with one valid surface
+// per edge.
+func FuzzAssemble(f *testing.F) {
+	f.Add([]byte{0x31, 0, 0, 5, 0, 5, 5, 0, 5})
+	f.Add([]byte{0x20, 0, 0, 4, 0, 0x20, 4, 0, 4, 4, 0x20, 4, 4, 0, 4, 0x20, 0, 4, 0, 0})
+	f.Add([]byte{0x21, 0, 0, 8, 0, 8, 8, 0x21, 2, 2, 6, 2, 6, 6, 0x23, 1, 1, 9, 1, 9, 9})
+	f.Add([]byte{0x41, 0, 0, 2, 2, 2, 0, 0, 2})
+	f.Fuzz(func(t *testing.T, data []byte) {
+		var pls []Polyline
+		for i := 0; i < len(data) && len(pls) < 64; {
+			h := data[i]
+			i++
+			n := 2 + int(h>>4)%6
+			p := Polyline{Closed: h&1 != 0, Group: int(h>>1) & 1, Surface: fmt.Sprintf("S%d", (h>>2)&3), Line: i}
+			for k := 0; k < n && i < len(data); k++ {
+				b := data[i]
+				i++
+				p.Points = append(p.Points, asmV(float64(b&15), float64(b>>4)))
+			}
+			pls = append(pls, p)
+		}
+		d := asmTestDrawing([]FillRule{EvenOdd, NonZero}, pls...)
+		o, rep, err := Assemble([]*Drawing{d}, AssembleOptions{})
+		var ie *InputError
+		if err != nil {
+			if !errors.As(err, &ie) {
+				t.Fatalf("error %v is %T, want *InputError", err, err)
+			}
+			return
+		}
+		if rep == nil || o == nil {
+			t.Fatal("nil outline or report without an error")
+		}
+		for li, l := range o.Loops {
+			if len(l.Points) < 3 || len(l.Surfaces) != len(l.Points) {
+				t.Fatalf("loop %d: %d points, %d surfaces", li, len(l.Points), len(l.Surfaces))
+			}
+			for _, si := range l.Surfaces {
+				if si < 0 || si >= len(o.Surfaces) {
+					t.Fatalf("loop %d: surface index %d of %d", li, si, len(o.Surfaces))
+				}
+			}
+		}
+		for x := range 16 {
+			for y := range 16 {
+				p := asmV(float64(x)+0.3719, float64(y)+0.6133)
+				if w := asmWinding(o, p); w != 0 && w != 1 {
+					t.Fatalf("accepted outline winds %d times around %v; loops %v", w, p, o.Loops)
+				}
+			}
+		}
+	})
 }
