@@ -2,6 +2,8 @@ package masks
 
 import (
 	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -90,6 +92,17 @@ type InputFile struct {
 	SHA256 string `json:"sha256"` // lower-case hex of the file's bytes
 	Unit   string `json:"unit"`   // the length unit the file was read in, e.g. "mm"; "" for a scene file
 	Role   string `json:"role"`   // e.g. "geometry", "scene"
+}
+
+// NewInputFile reads r to its end and returns the InputFile record for it,
+// with the SHA-256 of its bytes in lower-case hex. path, unit and role are
+// stored as given. Cost: one pass over the stream.
+func NewInputFile(path, unit, role string, r io.Reader) (InputFile, error) {
+	h := sha256.New()
+	if _, err := io.Copy(h, r); err != nil {
+		return InputFile{}, err
+	}
+	return InputFile{Path: path, SHA256: hex.EncodeToString(h.Sum(nil)), Unit: unit, Role: role}, nil
 }
 
 // NewAxisymmetric returns the axisymmetric block for a 2D mask revolved

@@ -189,3 +189,39 @@ func TestManCompactArrays(t *testing.T) {
 		})
 	}
 }
+
+func TestNewInputFile(t *testing.T) {
+	// SHA-256 of "abc": FIPS 180-2, appendix B.1.
+	in, err := NewInputFile("a.stl", "mm", "geometry", strings.NewReader("abc"))
+	want := "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+	if err != nil || in.SHA256 != want || in.Path != "a.stl" || in.Unit != "mm" || in.Role != "geometry" {
+		t.Errorf("NewInputFile = %+v, %v; want sha256 %s", in, err, want)
+	}
+}
+
+// FuzzReadManifest: whatever the bytes, ReadManifest returns a *ReadError
+// or a manifest whose grid is valid and whose field shapes match it.
+func FuzzReadManifest(f *testing.F) {
+	if b, err := os.ReadFile("testdata/manifest_2x3.golden.json"); err == nil {
+		f.Add(b)
+	}
+	f.Add([]byte(`{"format": "chimask-mask", "format_version": 1, "grid": {"dim": 2}}`))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		man, err := ReadManifest(bytes.NewReader(data))
+		var re *ReadError
+		switch {
+		case err != nil && !errors.As(err, &re):
+			t.Fatalf("error %v is %T, want *ReadError", err, err)
+		case err == nil:
+			g, gerr := man.GridOf()
+			if gerr != nil {
+				t.Fatalf("accepted a manifest with a bad grid: %v", gerr)
+			}
+			for _, fld := range man.Fields {
+				if !reflect.DeepEqual(fld.Shape, npyShape(g, fld.Components)) {
+					t.Fatalf("accepted field %q with shape %v on grid %v", fld.Name, fld.Shape, g.Shape())
+				}
+			}
+		}
+	})
+}

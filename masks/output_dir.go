@@ -118,8 +118,9 @@ func outCheckName(name string) error {
 // The manifest written is a copy of man (NewManifest(m, Provenance{}) when
 // man is nil) whose grid, fields and files entries are regenerated from m and
 // formats, so it always describes exactly what was written; its other
-// entries are kept. Files of earlier runs that this run does not rewrite
-// (a field since dropped) are left in place. Field names must be usable as
+// entries are kept. A mask.zarr store of an earlier run is replaced as a
+// whole; other files of earlier runs that this run does not rewrite (the
+// .npy of a field since dropped) are left in place. Field names must be usable as
 // file names (letters, digits, '_', '-', '.') and unique.
 func WriteDir(dir string, m *Mask, man *Manifest, formats []string) error {
 	set, err := outFormats(formats)
@@ -189,7 +190,15 @@ func WriteDir(dir string, m *Mask, man *Manifest, formats []string) error {
 		}
 	}
 	if set["zarr"] {
-		if err := WriteZarr(filepath.Join(dir, ZarrDir), m, &c, ZarrOptions{}); err != nil {
+		// A store from an earlier run would keep arrays of dropped fields;
+		// it is removed first, but only if it is one (it has a .zgroup).
+		zdir := filepath.Join(dir, ZarrDir)
+		if _, err := os.Stat(filepath.Join(zdir, ".zgroup")); err == nil {
+			if err := os.RemoveAll(zdir); err != nil {
+				return err
+			}
+		}
+		if err := WriteZarr(zdir, m, &c, ZarrOptions{}); err != nil {
 			return fmt.Errorf("writing %s: %w", ZarrDir, err)
 		}
 	}
