@@ -20,6 +20,7 @@ type stlLexer struct {
 	sc    *bufio.Scanner
 	line  []byte // rest of the current line
 	lineN int    // 1-based number of the current line
+	facet int    // 1-based number of the facet being read; 0 outside facets
 	err   error  // sticky: set once, every later call returns it
 }
 
@@ -100,6 +101,9 @@ func (lx *stlLexer) rest() string {
 
 // fail sets the sticky error to a syntax error at the current line.
 func (lx *stlLexer) fail(entity, what, hint string) {
+	if entity == "" && lx.facet > 0 {
+		entity = "facet " + strconv.Itoa(lx.facet)
+	}
 	if lx.err == nil {
 		lx.err = &InputError{File: lx.file, Line: max(lx.lineN, 1), Offset: -1, Entity: entity, What: what, Hint: hint}
 	}
@@ -215,7 +219,9 @@ func (b *stlBuilder) asciiFacet(lx *stlLexer, solid int32) error {
 		lx.fail("", fmt.Sprintf("more than %d facets", b.maxTris), "raise the triangle cap if the file really is that large")
 		return lx.err
 	}
-	entity := fmt.Sprintf("facet %d", len(b.tris)+1)
+	lx.facet = len(b.tris) + 1
+	defer func() { lx.facet = 0 }()
+	const entity = "" // fail names the facet
 	tok := lx.next()
 	if tok != nil && stlIs(tok, "normal") {
 		for range 3 {
