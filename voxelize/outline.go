@@ -57,12 +57,14 @@ const outlineBandRows = 16
 //     |d| < opts.BandCells/2 * h; otherwise masks.RegionSolid when the centre
 //     is in solid, else masks.RegionFluid.
 //   - surface_id, emissivity, wall_temperature, material_id: from the surface
-//     (opts.Surfaces row for the edge's surface index) of the nearest edge.
-//     Within the distance band (or half a cell diagonal, if larger) the
-//     nearest edge is exact, ties going to the lower edge number; beyond it
-//     the label is propagated from the band by an 8-neighbour two-pass raster
-//     sweep, which is approximate. wall_temperature is NaN where the surface
-//     has none.
+//     (opts.Surfaces row for the edge's surface index, see Options.Surfaces)
+//     of the nearest edge. Within the distance band (or half a cell
+//     diagonal, if larger) the nearest edge is exact, ties going to the lower
+//     edge number. Beyond it the result is approximate: nearest-edge labels
+//     are propagated from the band over blocks of 4x4 cells by a linear-time
+//     two-pass 8-neighbour raster sweep, and each cell then takes the nearest
+//     of the edges of the four blocks around it. wall_temperature is NaN
+//     where the surface has none.
 //
 // An outline with no edges (or a nil o) gives fraction, indicator, normal,
 // density and ids 0, region fluid, signed distance +DistanceBandCells()*h and
@@ -73,7 +75,9 @@ const outlineBandRows = 16
 //
 // Cost: O(cells + E + pieces + band cells) with E edges; the rows are split
 // into fixed bands of 16 over opts.workers() goroutines, except the label
-// sweep beyond the band, which is serial. The result is bit-for-bit the same
+// sweep over the blocks, which is serial (1/16 of the cells). On the 2-core
+// development machine a 2048x2048 grid over 20,000 edges takes roughly
+// 0.04 s for the fractions alone and 0.1-0.2 s for all fields. The result is bit-for-bit the same
 // for any worker count. A cancelled ctx stops the work between bands and
 // returns ctx.Err().
 func Outline(ctx context.Context, o *importers.Outline, g masks.Grid, opts Options) (*masks.Mask, error) {

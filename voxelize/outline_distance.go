@@ -54,7 +54,10 @@ func (g *o2Geom) voxelize(ctx context.Context, out o2Outputs, opts Options) erro
 	}
 	cover := g.bucketCover()
 	near := g.bucketNear(p.r * (1 + outlineSlack))
-	labels := make([]int32, g.nx*g.ny)
+	// The band's nearest-edge labels live in the surface_id field until
+	// tagBand replaces each of them, cell by cell, with the surface id: that
+	// spares a grid-sized array and its first touch.
+	labels := out.sid
 	nw := opts.workers()
 	scratch := make([]o2Scratch, nw)
 	for w := range scratch {

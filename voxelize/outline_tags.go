@@ -249,7 +249,7 @@ func (g *o2Geom) tagBand(b int, labels []int32, c *o2Coarse, out o2Outputs) {
 				cand := [4]int32{o2Label(c.lab[b00]), o2Label(c.lab[b10]), o2Label(c.lab[b01]), o2Label(c.lab[b11])}
 				k := g.nearestOf(cand, (float64(i)+0.5)*g.hx, yc)
 				if k < 0 {
-					out.wall[idx] = nan
+					out.sid[idx], out.wall[idx] = 0, nan
 					continue
 				}
 				t = &g.tags[g.edges[k].tag]
