@@ -196,6 +196,10 @@ func (s *asmState) reportBranch(r int, ends []r2.Vec, root []int32, pieces []asm
 	s.problem(ProblemBranch, ends[r], firstRef, detail)
 }
 
+// asmNearestCap bounds the open ends for which the nearest other open end
+// is searched by brute force (quadratic) to name it in the message.
+const asmNearestCap = 1000
+
 // reportOpenEnds reports every end that meets no other: a gap when another
 // open end lies within asmGapFactor x tolerance (each pair once), else an
 // open end.
@@ -229,7 +233,20 @@ func (s *asmState) reportOpenEnds(ends []r2.Vec, deg, root []int32, pieces []asm
 		ref := int(pieces[e/2].ref)
 		j := nearest[i]
 		if j < 0 {
-			s.problem(ProblemOpenEnd, pts[i], ref, fmt.Sprintf("end of %s meets no other end within %s", s.describe(ref), asmLength(reach)))
+			detail := fmt.Sprintf("end of %s meets no other end within %s", s.describe(ref), asmLength(reach))
+			if len(open) <= asmNearestCap { // say how far the nearest is, to help choose a tolerance
+				k, dk := -1, math.Inf(1)
+				for m := range pts {
+					if d := r2.Norm(r2.Sub(pts[i], pts[m])); m != i && d < dk {
+						k, dk = m, d
+					}
+				}
+				if k >= 0 {
+					detail += fmt.Sprintf("; the nearest open end is %s away at (%.9g, %.9g) m, end of %s",
+						asmLength(dk), pts[k].X, pts[k].Y, s.describe(int(pieces[open[k]/2].ref)))
+				}
+			}
+			s.problem(ProblemOpenEnd, pts[i], ref, detail)
 			continue
 		}
 		if nearest[j] == i && j < i {
