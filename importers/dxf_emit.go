@@ -198,7 +198,7 @@ func (em *dxfEmitter) flatten(e *dxfEntity, tol float64, where string) ([]r2.Vec
 			}
 		}
 	case "ELLIPSE":
-		if math.Abs(e.majorZ) > em.tol || e.ext.X != 0 || e.ext.Y != 0 || e.ext.Z == 0 {
+		if _, along := dxfOCS(e.ext); math.Abs(e.majorZ) > em.tol || !along {
 			em.warn(where + ": the ellipse is not in a plane parallel to XY and is skipped")
 			return nil, false, nil
 		}
@@ -210,7 +210,7 @@ func (em *dxfEmitter) flatten(e *dxfEntity, tol float64, where string) ([]r2.Vec
 		closed = sweep > 2*math.Pi-1e-9
 		pts, ok = dxfEllipse(pts, e.center, e.major, minor, e.a0, sweep, tol, !closed)
 	case "SPLINE":
-		if e.ext.X != 0 || e.ext.Y != 0 {
+		if _, along := dxfOCS(e.ext); !along {
 			em.warn(where + ": the spline is not in a plane parallel to XY and is skipped")
 			return nil, false, nil
 		}

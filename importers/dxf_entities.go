@@ -3,6 +3,9 @@ package importers
 import (
 	"fmt"
 	"math"
+	"strconv"
+	"strings"
+	"unicode/utf8"
 
 	"gonum.org/v1/gonum/spatial/r2"
 	"gonum.org/v1/gonum/spatial/r3"
@@ -105,7 +108,7 @@ func dxfDecode(name, kind string, line int, pairs []dxfPair) (*dxfEntity, error)
 		switch p.code {
 		case 8:
 			if p.val != "" {
-				e.layer = p.val
+				e.layer = dxfText(p.val)
 			}
 			continue
 		case 67:
@@ -342,4 +345,34 @@ func dxfCheckEntity(e *dxfEntity, name, lab string) error {
 		e.cols, e.rows = max(e.cols, 1), max(e.rows, 1)
 	}
 	return nil
+}
+
+// dxfText decodes a DXF string for use as a name: \U+XXXX escapes (how
+// files before AutoCAD 2007 write characters outside their code page) become
+// the characters, and bytes that are not UTF-8 (files in a Windows code
+// page) are read as Latin-1, so every surface name is valid UTF-8.
+func dxfText(s string) string {
+	if !strings.Contains(s, `\U+`) && !strings.Contains(s, `\u+`) && utf8.ValidString(s) {
+		return s
+	}
+	var b strings.Builder
+	valid := utf8.ValidString(s)
+	for i := 0; i < len(s); {
+		if i+7 <= len(s) && s[i] == '\\' && (s[i+1] == 'U' || s[i+1] == 'u') && s[i+2] == '+' {
+			if n, err := strconv.ParseUint(s[i+3:i+7], 16, 32); err == nil {
+				b.WriteRune(rune(n))
+				i += 7
+				continue
+			}
+		}
+		if valid {
+			r, size := utf8.DecodeRuneInString(s[i:])
+			b.WriteRune(r)
+			i += size
+			continue
+		}
+		b.WriteRune(rune(s[i])) // Latin-1: byte value = code point
+		i++
+	}
+	return b.String()
 }

@@ -577,3 +577,19 @@ func ExampleReadDXF() {
 	fmt.Printf("%s %s closed=%v area=%.5f m2\n", pl.Where, pl.Surface, pl.Closed, math.Abs(dxfTArea(pl.Points)))
 	// Output: line 16, LWPOLYLINE handle 2F wall closed=true area=0.00393 m2
 }
+
+func TestDXFText(t *testing.T) {
+	// \U+XXXX is the DXF escape for a Unicode code point (DXF reference,
+	// from memory); 0xE4 is "ä" in Latin-1 and Windows-1252.
+	for _, tc := range []struct{ in, want string }{
+		{"wall", "wall"},
+		{`Ofent\U+00FCr`, "Ofentür"},
+		{"W\xe4nde", "Wände"},
+		{`bad\U+zz`, `bad\U+zz`},
+		{"Wände", "Wände"},
+	} {
+		if got := dxfText(tc.in); got != tc.want {
+			t.Errorf("dxfText(%q) = %q, want %q", tc.in, got, tc.want)
+		}
+	}
+}
