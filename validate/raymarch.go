@@ -23,7 +23,7 @@ type radMaskScene struct {
 	sid     []int32
 	rowOf   []int // surface id -> row; -1 for an id not in the table
 	nRows   int
-	normals []float32 // dim components per cell
+	normals []float32   // dim components per cell
 	cells   [][]int32   // per row: flat indices of emitting cells
 	cum     [][]float64 // per row: running sums of their interface areas
 	// near is the signed distance above which a cell cannot hold a zero
@@ -33,7 +33,8 @@ type radMaskScene struct {
 	near float64
 	// eps is how far off its facet a ray starts, in metres: 1e-3 of the
 	// smallest spacing, far below the O(h) bias of the reconstruction.
-	eps float64
+	eps  float64
+	hmin float64 // smallest spacing, m
 	// escape is how far a ray that starts inside the interpolated solid (a
 	// concave wall seen from its own cut cell) may travel before it counts as
 	// striking its own surface: two cell diagonals.
@@ -145,6 +146,7 @@ func radPrepareMask(m *masks.Mask) (*radMaskScene, *ViewFactors, error) {
 	diag := math.Sqrt(diag2)
 	sc.near = 1.01 * diag
 	sc.eps = 1e-3 * g.MinSpacing()
+	sc.hmin = g.MinSpacing()
 	sc.escape = 2 * diag
 
 	// Rows: the surfaces table in id order, else the ids found in the field.
@@ -261,9 +263,11 @@ func (sc *radMaskScene) emitPoint(c int, r *rand.Rand) (p, n [3]float64) {
 	idx := [3]int{i, j, k}
 	var ctr, lo, hi [3]float64
 	for a := range sc.dim {
+		// The box is widened by 1e-9 of a cell so that a facet lying on a
+		// cell face (a wall aligned with the grid) is still sampled.
 		ctr[a] = sc.org[a] + (float64(idx[a])+0.5)*sc.h[a]
-		lo[a] = ctr[a] - 0.5*sc.h[a]
-		hi[a] = ctr[a] + 0.5*sc.h[a]
+		lo[a] = ctr[a] - (0.5+1e-9)*sc.h[a]
+		hi[a] = ctr[a] + (0.5+1e-9)*sc.h[a]
 		n[a] = float64(sc.normals[c*sc.dim+a])
 	}
 	var nn float64
@@ -453,7 +457,7 @@ func (sc *radMaskScene) march(o, d [3]float64) (cell int, ok bool) {
 				} else if ps < 0 {
 					t = tPrev + (t-tPrev)*phiPrev/(phiPrev-ps)
 				}
-				return sc.cellAt(at(t)), true
+				return sc.hitCell(at, t), true
 			}
 			tPrev, phiPrev = tExit, phiX
 		} else {
@@ -473,6 +477,21 @@ func (sc *radMaskScene) march(o, d [3]float64) (cell int, ok bool) {
 		}
 		tMax[a] += tDelta[a]
 	}
+}
+
+// hitCell returns the cell whose surface id names what the ray x(t) struck
+// at t: the cell half a cell back along the ray, on the fluid side of the
+// crossing. Its nearest surface is the one the ray approached; the cell
+// holding the crossing itself may be a solid cell at a corner, equidistant
+// from two faces, whose id is a coin toss. A back-off cell without an id
+// falls back to the crossing's cell.
+func (sc *radMaskScene) hitCell(at func(float64) [3]float64, t float64) int {
+	c := sc.cellAt(at(t))
+	b := sc.cellAt(at(max(0, t-0.5*sc.hmin)))
+	if sc.sid[b] > 0 {
+		return b
+	}
+	return c
 }
 
 // cellAt returns the flat index of the cell holding x, clamped to the grid.
