@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r2"
@@ -465,5 +466,52 @@ func TestOutlineFractionsConvexPolygons(t *testing.T) {
 				t.Errorf("only %d of %d cells checked", checked, tc.g.NumCells())
 			}
 		})
+	}
+}
+
+func TestOutlineRandomProperties(t *testing.T) {
+	// Properties on random blobs with holes over random grids (fixed seeds):
+	// conservation of area, fractions in [0, 1], and agreement between the
+	// fraction, the centre test, the signed distance and the region.
+	for seed := range uint64(12) {
+		rng := rand.New(rand.NewPCG(seed, 99))
+		nx, ny := 5+rng.IntN(40), 5+rng.IntN(40)
+		hx, hy := 0.02+0.08*rng.Float64(), 0.02+0.08*rng.Float64()
+		g := outlineTestGrid(nx, ny, -0.3*rng.Float64(), -0.3*rng.Float64(), hx, hy)
+		cx, cy := g.Origin[0]+0.5*float64(nx)*hx, g.Origin[1]+0.5*float64(ny)*hy
+		rmax := 0.45 * min(float64(nx)*hx, float64(ny)*hy)
+		o := &importers.Outline{Loops: []importers.Loop{
+			outlineTestBlob(cx, cy, 0.5*rmax, rmax, 10+rng.IntN(300), seed),
+			outlineTestNgon(1, cx, cy, 0.3*rmax, 3+rng.IntN(30), rng.Float64(), false),
+		}}
+		opts := Options{Workers: 1 + rng.IntN(3), SmoothingCells: float64(rng.IntN(3)), BandCells: 1 + 3*rng.Float64()}
+		m, err := Outline(context.Background(), o, g, opts)
+		if err != nil {
+			t.Fatal(err)
+		}
+		frac, sd := m.Field(masks.SolidFraction).F64, m.Field(masks.SignedDistance).F32
+		reg, sid := m.Field(masks.Region).U8, m.Field(masks.SurfaceID).I32
+		dh := float32(opts.DistanceBandCells() * g.MinSpacing())
+		var s float64
+		for k, f := range frac {
+			s += f
+			switch {
+			case f < 0 || f > 1:
+				t.Errorf("seed %d: fraction[%d] = %g outside [0, 1]", seed, k, f)
+			case f == 1 && sd[k] >= 0, f == 0 && sd[k] < 0:
+				t.Errorf("seed %d: cell %d fraction %g with signed distance %g", seed, k, f, sd[k])
+			case f > 0 && f < 1 && reg[k] != masks.RegionInterface:
+				t.Errorf("seed %d: cut cell %d (fraction %g) has region %d", seed, k, f, reg[k])
+			case reg[k] == masks.RegionSolid && sd[k] >= 0, reg[k] == masks.RegionFluid && sd[k] < 0:
+				t.Errorf("seed %d: cell %d region %d with signed distance %g", seed, k, reg[k], sd[k])
+			case sd[k] < -dh || sd[k] > dh:
+				t.Errorf("seed %d: cell %d signed distance %g beyond the clamp %g", seed, k, sd[k], dh)
+			case sid[k] != 1 && sid[k] != 2:
+				t.Errorf("seed %d: cell %d surface_id %d, want 1 or 2", seed, k, sid[k])
+			}
+		}
+		if got, want := s*g.CellVolume(), o.Area(); math.Abs(got-want) > 1e-12*want {
+			t.Errorf("seed %d: area %.16g, want %.16g ± 1e-12 relative", seed, got, want)
+		}
 	}
 }
