@@ -124,7 +124,7 @@ func OutlineFractions(ctx context.Context, o *importers.Outline, g masks.Grid, w
 	}
 	frac := make([]float64, geo.nx*geo.ny)
 	bk := geo.bucketCover()
-	nw := opts.workers()
+	nw := min(opts.workers(), geo.nBands()) // no scratch for workers without a band
 	scratch := make([]o2CoverScratch, nw)
 	for w := range scratch {
 		scratch[w] = o2CoverScratch{cut: make([]bool, outlineBandRows*geo.nx)}

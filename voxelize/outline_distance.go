@@ -58,7 +58,7 @@ func (g *o2Geom) voxelize(ctx context.Context, out o2Outputs, opts Options) erro
 	// tagBand replaces each of them, cell by cell, with the surface id: that
 	// spares a grid-sized array and its first touch.
 	labels := out.sid
-	nw := opts.workers()
+	nw := min(opts.workers(), g.nBands()) // no scratch for workers without a band
 	scratch := make([]o2Scratch, nw)
 	for w := range scratch {
 		n := outlineBandRows * g.nx
