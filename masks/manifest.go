@@ -298,6 +298,18 @@ func manFinite(v any) any {
 			out[i] = manFinite(e)
 		}
 		return out
+	case []float32:
+		out := make([]any, len(x))
+		for i, e := range x {
+			out[i] = manFinite(e)
+		}
+		return out
+	case map[string]float64:
+		out := make(map[string]any, len(x))
+		for k, e := range x {
+			out[k] = manFinite(e)
+		}
+		return out
 	}
 	return v
 }

@@ -21,7 +21,8 @@ func manTestManifest() *Manifest {
 	})
 	man.Axisymmetric = NewAxisymmetric()
 	man.Notes = []string{"solid_fraction is exact for the flattened outline"}
-	man.Statistics = map[string]any{"solid_area_m2": 0.125, "interface_cells": 4, "max_gap_m": math.NaN()}
+	man.Statistics = map[string]any{"solid_area_m2": 0.125, "interface_cells": 4, "max_gap_m": math.NaN(),
+		"per_surface_area_m2": map[string]float64{"WALL": 0.5, "GLASS": math.Inf(1)}, "residuals": []float32{1, float32(math.Inf(-1))}}
 	return man
 }
 

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"os"
 	"strconv"
 	"strings"
 
@@ -146,12 +147,38 @@ func npyWriteData(w io.Writer, f *Field, lo, hi int) error {
 // header over 10000 bytes, a truncated array or bytes after it give a
 // *ReadError. Memory grows with the bytes actually read, never with the
 // count a header claims.
+//
+// Cost: one pass; when r tells its remaining length (an *os.File, or a
+// reader with a Len method such as *bytes.Reader) and it covers the
+// announced array, the field is allocated once, else it grows as data
+// arrive.
 func ReadNPY(r io.Reader) (shape []int, f *Field, err error) {
-	return npyRead(r, "")
+	return npyRead(r, "", npyAvailable(r))
 }
 
-// npyRead is ReadNPY with a file name for the errors.
-func npyRead(r io.Reader, name string) ([]int, *Field, error) {
+// npyAvailable returns how many bytes r still holds, or -1 if it cannot
+// tell.
+func npyAvailable(r io.Reader) int64 {
+	switch x := r.(type) {
+	case interface{ Len() int }:
+		return int64(x.Len())
+	case *os.File:
+		fi, err := x.Stat()
+		if err != nil || !fi.Mode().IsRegular() {
+			return -1
+		}
+		pos, err := x.Seek(0, io.SeekCurrent)
+		if err != nil {
+			return -1
+		}
+		return fi.Size() - pos
+	}
+	return -1
+}
+
+// npyRead is ReadNPY with a file name for the errors and the number of
+// bytes r holds (-1 when unknown), used only to allocate the field at once.
+func npyRead(r io.Reader, name string, avail int64) ([]int, *Field, error) {
 	bad := func(off int64, hint, format string, args ...any) error {
 		return &ReadError{File: name, Offset: off, What: fmt.Sprintf(format, args...), Hint: hint}
 	}
@@ -213,6 +240,9 @@ func npyRead(r io.Reader, name string) ([]int, *Field, error) {
 	off += int64(hlen)
 	f := &Field{DType: dt, Components: 1}
 	size := dt.Size()
+	if avail >= 0 && avail-off >= int64(n)*int64(size) {
+		npyReserve(f, n) // the bytes are there: one allocation
+	}
 	buf := make([]byte, npyChunkBytes)
 	for done := 0; done < n; {
 		k := min(n-done, npyChunkBytes/size)

@@ -4,6 +4,7 @@ import (
 	"encoding/binary"
 	"fmt"
 	"math"
+	"slices"
 )
 
 // npyChunkBytes is the size of the reused buffer through which every writer
@@ -114,16 +115,31 @@ func npyGetElems(f *Field, lo int, src []byte) {
 	}
 }
 
-// npyGrow extends f's slice by n zeroed elements.
+// npyGrow extends f's slice by n zeroed elements, growing its capacity
+// geometrically.
 func npyGrow(f *Field, n int) {
 	switch f.DType {
 	case Float64:
-		f.F64 = append(f.F64, make([]float64, n)...)
+		f.F64 = slices.Grow(f.F64, n)[:len(f.F64)+n]
 	case Float32:
-		f.F32 = append(f.F32, make([]float32, n)...)
+		f.F32 = slices.Grow(f.F32, n)[:len(f.F32)+n]
 	case Int32:
-		f.I32 = append(f.I32, make([]int32, n)...)
+		f.I32 = slices.Grow(f.I32, n)[:len(f.I32)+n]
 	case Uint8:
-		f.U8 = append(f.U8, make([]uint8, n)...)
+		f.U8 = slices.Grow(f.U8, n)[:len(f.U8)+n]
+	}
+}
+
+// npyReserve gives f's slice capacity for n elements.
+func npyReserve(f *Field, n int) {
+	switch f.DType {
+	case Float64:
+		f.F64 = slices.Grow(f.F64, n)
+	case Float32:
+		f.F32 = slices.Grow(f.F32, n)
+	case Int32:
+		f.I32 = slices.Grow(f.I32, n)
+	case Uint8:
+		f.U8 = slices.Grow(f.U8, n)
 	}
 }

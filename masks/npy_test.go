@@ -283,7 +283,7 @@ func TestReadNPYErrors(t *testing.T) {
 		{"huge shape, little data", npyRaw("{'descr': '<f8', 'fortran_order': False, 'shape': (100000000,), }\n", make([]byte, 80)), "ends after 10 of 100000000"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			_, _, err := npyRead(bytes.NewReader(tc.data), "in.npy")
+			_, _, err := npyRead(bytes.NewReader(tc.data), "in.npy", int64(len(tc.data)))
 			var re *ReadError
 			if !errors.As(err, &re) {
 				t.Fatalf("ReadNPY error = %v (%T), want *ReadError", err, err)

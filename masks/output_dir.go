@@ -260,7 +260,8 @@ func outReadField(dir, mpath string, g Grid, mfld ManifestField) (*Field, error)
 		return nil, err
 	}
 	defer fh.Close()
-	shape, f, err := npyRead(bufio.NewReaderSize(fh, 1<<16), path)
+	avail := npyAvailable(fh)
+	shape, f, err := npyRead(bufio.NewReaderSize(fh, 1<<16), path, avail)
 	if err != nil {
 		return nil, err
 	}
