@@ -39,10 +39,12 @@ const (
 // component axis when f.Components > 1, e.g. (nz, ny, nx, 3) for a 3D normal.
 // The bytes equal what numpy.save writes for the same array (NumPy 1.24).
 //
-// codeberg.org/sbinet/npyio writes only 1-D shapes from a flat slice and
-// pads its header to 16 rather than 64 bytes, so chimask formats the header
-// itself from npyio's Header type and streams the data in 64 KiB chunks; no
-// copy of the field is made. A field whose length does not match g is
+// codeberg.org/sbinet/npyio (v0.14) writes only 1-D shapes from a flat
+// slice, always uses format 2.0 and does not align the data start to 64
+// bytes (76 bytes for a (3,) float64 array), so chimask formats the header
+// itself from npyio's Magic and Header and streams the data in 64 KiB
+// chunks; no copy of the field is made. npyio's reader, which the tests run
+// on our files, accepts the result. A field whose length does not match g is
 // refused with an error before anything is written.
 func WriteNPY(w io.Writer, g Grid, f *Field) error {
 	if err := g.Validate(); err != nil {
