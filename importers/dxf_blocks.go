@@ -57,7 +57,7 @@ func (em *dxfEmitter) insert(e *dxfEntity, xf dxfXform, layer, via string, depth
 				}
 			}
 			em.instances++
-			if em.instances > dxfMaxInstances {
+			if em.via = via; em.instances > dxfMaxInstances {
 				return em.fail(e, fmt.Sprintf("block inserts expand to more than %d entities", dxfMaxInstances),
 					"explode or simplify the nested block arrays in your CAD program")
 			}

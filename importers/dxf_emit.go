@@ -32,6 +32,7 @@ type dxfEmitter struct {
 	points    int
 	instances int
 	stack     []string // upper-case names of the blocks being expanded
+	via       string   // the inserts that placed the entity being emitted, for errors
 	buf       []r2.Vec
 	seen      map[string]bool
 	dropped   int
@@ -85,9 +86,10 @@ func (em *dxfEmitter) warn(msg string) {
 	em.d.Warnings = append(em.d.Warnings, msg)
 }
 
-// fail builds an InputError about entity e.
+// fail builds an InputError about entity e, naming the inserts that placed
+// it when it is inside a block.
 func (em *dxfEmitter) fail(e *dxfEntity, what, hint string) error {
-	return &InputError{File: em.name, Line: e.line, Offset: -1, Entity: e.label(), What: what, Hint: hint}
+	return &InputError{File: em.name, Line: e.line, Offset: -1, Entity: e.label() + em.via, What: what, Hint: hint}
 }
 
 // tooFine reports a curve that needs more than dxfMaxSegments chords.
@@ -107,6 +109,7 @@ func (em *dxfEmitter) overBudget(e *dxfEntity) error {
 // units), into polylines. layer is the layer an entity on layer "0"
 // inherits; via describes the inserts that placed it, for messages.
 func (em *dxfEmitter) emit(e *dxfEntity, xf dxfXform, layer, via string, depth int) error {
+	em.via = via
 	em.instances++
 	if em.instances > dxfMaxInstances {
 		return em.fail(e, fmt.Sprintf("block inserts expand to more than %d entities", dxfMaxInstances),

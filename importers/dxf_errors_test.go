@@ -17,6 +17,7 @@ type dxfTCase struct {
 	line int
 	want string
 	opts ReadOptions
+	ent  string // a piece of InputError.Entity, when set
 }
 
 // dxfTBroken builds the malformed drawings, each with its expected line
@@ -184,6 +185,7 @@ func dxfTBroken() []dxfTCase {
 	for i := range cs {
 		if cs[i].name == "insert scale overflows" {
 			cs[i].line = strings.Count(cs[i].text[:strings.Index(cs[i].text, "\nLINE\n")+1], "\n") + 1
+			cs[i].ent = "in block S inserted at line"
 		}
 	}
 	return cs
@@ -199,6 +201,9 @@ func TestReadDXFMalformed(t *testing.T) {
 			}
 			if ie.File != "bad.dxf" || ie.Line != tc.line || !strings.Contains(ie.Error(), tc.want) || ie.Hint == "" {
 				t.Errorf("ReadDXF = %q (line %d, hint %q), want line %d and %q", ie.Error(), ie.Line, ie.Hint, tc.line, tc.want)
+			}
+			if !strings.Contains(ie.Entity, tc.ent) {
+				t.Errorf("Entity = %q, want it to contain %q", ie.Entity, tc.ent)
 			}
 		})
 	}
