@@ -192,15 +192,27 @@ type asmProblem struct {
 
 // asmState carries one Assemble call.
 type asmState struct {
-	refs     []asmRef
-	surfs    []string   // global surface names
-	rules    []FillRule // per global fill group
-	tol      float64
-	diag     float64 // bounding-box diagonal of every input point, metres
-	maxAbs   float64 // largest coordinate magnitude, metres
-	problems []asmProblem
-	counts   map[ProblemKind]int
-	warnings []string
+	refs       []asmRef
+	surfs      []string   // global surface names
+	rules      []FillRule // per global fill group
+	tol        float64
+	diag       float64 // bounding-box diagonal of every input point, metres
+	maxAbs     float64 // largest coordinate magnitude, metres
+	problems   []asmProblem
+	counts     map[ProblemKind]int
+	warnings   []string
+	warnCounts map[string]int
+}
+
+// warn adds the warning msg() of a kind; past asmMaxListed of a kind it
+// only counts (msg is then not even formatted).
+func (s *asmState) warn(kind string, msg func() string) {
+	if s.warnCounts == nil {
+		s.warnCounts = map[string]int{}
+	}
+	if s.warnCounts[kind]++; s.warnCounts[kind] <= asmMaxListed {
+		s.warnings = append(s.warnings, msg())
+	}
 }
 
 // collect indexes the polylines, their surfaces and fill groups, and checks
@@ -306,6 +318,16 @@ func (s *asmState) sortedProblems() []Problem {
 	for _, k := range kinds {
 		if n := s.counts[k]; n > asmMaxListed {
 			s.warnings = append(s.warnings, fmt.Sprintf("%d %s problems found; only the first %d are listed", n, k, asmMaxListed))
+		}
+	}
+	wk := make([]string, 0, len(s.warnCounts))
+	for k := range s.warnCounts {
+		wk = append(wk, k)
+	}
+	slices.Sort(wk)
+	for _, k := range wk {
+		if n := s.warnCounts[k]; n > asmMaxListed {
+			s.warnings = append(s.warnings, fmt.Sprintf("%d %s warnings; only the first %d are listed", n, k, asmMaxListed))
 		}
 	}
 	return out

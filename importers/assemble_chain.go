@@ -83,6 +83,12 @@ func (s *asmState) chain(pieces []asmPiece) []asmLoop {
 		}
 	}
 	rep := func(e int) r2.Vec { return ends[root[e]] }
+	branch := map[int32][]int32{} // members of the clusters where three or more ends meet
+	for e := range ends {
+		if r := root[e]; deg[r] >= 3 {
+			branch[r] = append(branch[r], int32(e))
+		}
+	}
 
 	visited := make([]bool, n)
 	var loops []asmLoop
@@ -135,7 +141,7 @@ func (s *asmState) chain(pieces []asmPiece) []asmLoop {
 			continue
 		}
 		if deg[r] >= 3 && r == e {
-			s.reportBranch(r, ends, root, pieces)
+			s.reportBranch(branch[int32(r)], ends, pieces)
 		}
 		if !visited[e/2] {
 			walk(e)
@@ -167,33 +173,18 @@ func (s *asmState) chain(pieces []asmPiece) []asmLoop {
 	return loops
 }
 
-// reportBranch reports a cluster where three or more ends meet.
-func (s *asmState) reportBranch(r int, ends []r2.Vec, root []int32, pieces []asmPiece) {
+// reportBranch reports a cluster where three or more ends meet; members
+// are its ends in increasing order.
+func (s *asmState) reportBranch(members []int32, ends []r2.Vec, pieces []asmPiece) {
 	var who []string
-	firstRef := -1
-	for e := r; e < len(ends); e++ {
-		if int(root[e]) != r {
-			continue
-		}
-		ref := int(pieces[e/2].ref)
-		if firstRef < 0 {
-			firstRef = ref
-		}
-		if len(who) < 6 {
-			who = append(who, s.describe(ref))
-		}
+	for _, e := range members[:min(len(members), 6)] {
+		who = append(who, s.describe(int(pieces[e/2].ref)))
 	}
-	n := 0
-	for e := r; e < len(ends); e++ {
-		if int(root[e]) == r {
-			n++
-		}
-	}
-	detail := fmt.Sprintf("%d ends meet: %s", n, strings.Join(who, ", "))
-	if n > len(who) {
+	detail := fmt.Sprintf("%d ends meet: %s", len(members), strings.Join(who, ", "))
+	if len(members) > len(who) {
 		detail += ", ..."
 	}
-	s.problem(ProblemBranch, ends[r], firstRef, detail)
+	s.problem(ProblemBranch, ends[members[0]], int(pieces[members[0]/2].ref), detail)
 }
 
 // asmNearestCap bounds the open ends for which the nearest other open end

@@ -133,8 +133,10 @@ func (s *asmState) nest(loops []asmLoop) []asmLoop {
 			if inside {
 				side = "solid"
 			}
-			s.warnings = append(s.warnings, fmt.Sprintf("loop of %s at (%.9g, %.9g) m bounds nothing (%s on both sides under the %s rule); dropped",
-				s.describe(int(l.ref[0])), l.pts[0].X, l.pts[0].Y, side, s.rules[g]))
+			s.warn("dropped loop", func() string {
+				return fmt.Sprintf("loop of %s at (%.9g, %.9g) m bounds nothing (%s on both sides under the %s rule); dropped",
+					s.describe(int(l.ref[0])), l.pts[0].X, l.pts[0].Y, side, s.rules[g])
+			})
 		}
 		for _, c := range children[i] {
 			visit(c, inside)

@@ -164,10 +164,12 @@ func (s *asmState) prepare() ([]asmPiece, []asmLoop) {
 		pts := es[ri].pts
 		switch {
 		case len(pts) < 2:
-			s.warnings = append(s.warnings, fmt.Sprintf("%s has zero length; ignored", s.describe(ri)))
+			s.warn("zero length", func() string { return fmt.Sprintf("%s has zero length; ignored", s.describe(ri)) })
 			continue
 		case dupOf[ri] >= 0:
-			s.warnings = append(s.warnings, fmt.Sprintf("%s is an exact duplicate of %s; dropped", s.describe(ri), s.describe(int(dupOf[ri]))))
+			s.warn("exact duplicate", func() string {
+				return fmt.Sprintf("%s is an exact duplicate of %s; dropped", s.describe(ri), s.describe(int(dupOf[ri])))
+			})
 			continue
 		case !r.pl.Closed:
 			pieces = append(pieces, asmPiece{ref: int32(ri), pts: pts})
