@@ -175,3 +175,69 @@ func TestOutlineEmpty(t *testing.T) {
 		})
 	}
 }
+
+func TestOutlineTagsBeyondBand(t *testing.T) {
+	// Reference: the nearest surface by brute force over every edge. Beyond
+	// the band the tags are propagated (approximate), so the check is a bound:
+	// the surface a cell gets is never farther than the nearest surface by
+	// more than one block diagonal (4 sqrt2 cells), and it is the nearest one
+	// for nearly all cells.
+	o := &importers.Outline{Loops: []importers.Loop{
+		outlineTestRect(0, 0.02, 0.02, 0.98, 0.98, true),
+		outlineTestRect(0, 0.06, 0.06, 0.94, 0.94, false),
+	}}
+	for k := range 3 {
+		x := 0.25 + 0.25*float64(k)
+		o.Loops = append(o.Loops, outlineTestNgon(1+k, x, 0.3+0.15*float64(k), 0.06, 64, 0, true), outlineTestNgon(1+k, x, 0.3+0.15*float64(k), 0.04, 48, 0, false))
+	}
+	g := outlineTestGrid(120, 110, 0, 0, 1.0/120, 1.0/110)
+	m, err := Outline(context.Background(), o, g, Options{Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	type seg struct {
+		a, b r2.Vec
+		id   int32
+	}
+	var segs []seg
+	for _, l := range o.Loops {
+		for i := range l.Points {
+			segs = append(segs, seg{l.Points[i], l.Points[(i+1)%len(l.Points)], int32(l.Surfaces[i] + 1)})
+		}
+	}
+	sid := m.Field(masks.SurfaceID).I32
+	bound := 4 * math.Sqrt2 * g.MinSpacing()
+	wrong := 0
+	for j := range g.Cells[1] {
+		for i := range g.Cells[0] {
+			c := g.Center(i, j, 0)
+			best := [5]float64{math.Inf(1), math.Inf(1), math.Inf(1), math.Inf(1), math.Inf(1)} // by surface id 1..4
+			for _, s := range segs {
+				dx, dy := s.b.X-s.a.X, s.b.Y-s.a.Y
+				u := min(max(((c[0]-s.a.X)*dx+(c[1]-s.a.Y)*dy)/(dx*dx+dy*dy), 0), 1)
+				d := math.Hypot(c[0]-s.a.X-u*dx, c[1]-s.a.Y-u*dy)
+				best[s.id] = min(best[s.id], d)
+			}
+			near := math.Inf(1)
+			for _, d := range best {
+				near = min(near, d)
+			}
+			k := g.Index(i, j, 0)
+			got := math.Inf(1)
+			if sid[k] >= 1 && sid[k] <= 4 {
+				got = best[sid[k]]
+			}
+			if got-near > bound {
+				t.Errorf("cell (%d, %d): surface %d at %.4f m, nearest surface at %.4f m; want within %.4f", i, j, sid[k], got, near, bound)
+			}
+			if got > near {
+				wrong++
+			}
+		}
+	}
+	if frac := float64(wrong) / float64(g.NumCells()); frac > 0.01 {
+		t.Errorf("%.2f%% of cells tagged with a surface that is not the nearest, want at most 1%%", 100*frac)
+	} else {
+		t.Logf("%d of %d cells tagged with a surface that is not the nearest", wrong, g.NumCells())
+	}
+}
