@@ -172,6 +172,27 @@ func ExampleWriteManifest() {
 	// }
 }
 
+// TestManCompactArraysKeepsValues: compaction changes only whitespace, so
+// the golden manifest decodes to the same values before and after.
+func TestManCompactArraysKeepsValues(t *testing.T) {
+	man := manTestManifest()
+	man.Statistics = nil // NaN cannot go through json.MarshalIndent
+	ind, err := json.MarshalIndent(man, "", "  ")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var a, b any
+	if err := json.Unmarshal(ind, &a); err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(manCompactArrays(ind), &b); err != nil {
+		t.Fatalf("compacted JSON does not parse: %v", err)
+	}
+	if !reflect.DeepEqual(a, b) {
+		t.Errorf("compaction changed the decoded values")
+	}
+}
+
 func TestManCompactArrays(t *testing.T) {
 	for _, tc := range []struct{ name, in, want string }{
 		{"numbers", "{\n  \"a\": [\n    1,\n    -2.5e-07\n  ]\n}\n", "{\n  \"a\": [1, -2.5e-07]\n}\n"},

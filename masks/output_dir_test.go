@@ -3,6 +3,7 @@ package masks
 import (
 	"bytes"
 	"errors"
+	"fmt"
 	"io"
 	"math"
 	"os"
@@ -297,4 +298,38 @@ func TestReadDirErrors(t *testing.T) {
 			}
 		})
 	}
+}
+
+func ExampleWriteDir() {
+	dir, err := os.MkdirTemp("", "chimask-example-")
+	if err != nil {
+		panic(err)
+	}
+	defer os.RemoveAll(dir)
+	g := Grid{Dim: 2, Spacing: [3]float64{0.01, 0.01, 1}, Cells: [3]int{4, 3, 1}}
+	m := &Mask{Grid: g, Fields: NewStandardFields(g)}
+	man := NewManifest(m, Provenance{Tool: "chimask", Version: "dev"})
+	if err := WriteDir(dir, m, man, nil); err != nil {
+		panic(err)
+	}
+	entries, _ := os.ReadDir(dir)
+	for _, e := range entries {
+		fmt.Println(e.Name())
+	}
+	back, _, err := ReadDir(dir)
+	fmt.Println(len(back.Fields), "fields read back,", err)
+	// Output:
+	// emissivity.npy
+	// indicator.npy
+	// interface_density.npy
+	// manifest.json
+	// mask.vti
+	// material_id.npy
+	// normal.npy
+	// region.npy
+	// signed_distance.npy
+	// solid_fraction.npy
+	// surface_id.npy
+	// wall_temperature.npy
+	// 10 fields read back, <nil>
 }

@@ -96,9 +96,13 @@ func WriteVTI(w io.Writer, m *Mask, opts VTIOptions) error {
 		nz = 0
 	}
 	extent := fmt.Sprintf("0 %d 0 %d 0 %d", g.Cells[0], g.Cells[1], nz)
+	spacing := g.Spacing
+	if g.Dim == 2 && !(spacing[2] > 0 && spacing[2] < math.Inf(1)) {
+		spacing[2] = 1 // unused in 2D, but VTK filters divide by it
+	}
 	fmt.Fprintf(bw, "<?xml version=\"1.0\"?>\n")
 	fmt.Fprintf(bw, "<VTKFile type=\"ImageData\" version=\"1.0\" byte_order=\"LittleEndian\" header_type=\"%s\">\n", htype)
-	fmt.Fprintf(bw, "  <ImageData WholeExtent=\"%s\" Origin=\"%s\" Spacing=\"%s\">\n", extent, vtiFloats(g.Origin[:]), vtiFloats(g.Spacing[:]))
+	fmt.Fprintf(bw, "  <ImageData WholeExtent=\"%s\" Origin=\"%s\" Spacing=\"%s\">\n", extent, vtiFloats(g.Origin[:]), vtiFloats(spacing[:]))
 	fmt.Fprintf(bw, "    <Piece Extent=\"%s\">\n", extent)
 	fmt.Fprintf(bw, "      <PointData>\n      </PointData>\n")
 	fmt.Fprintf(bw, "      <CellData%s>\n", vtiActive(arrays))

@@ -250,6 +250,20 @@ func TestVTIGolden(t *testing.T) {
 	npyGolden(t, "vti_2x3.golden.vti", buf.Bytes())
 }
 
+// TestVTIZeroZSpacing2D: a 2D grid that leaves Spacing[2] at zero still
+// gets a usable z spacing of 1 in the file.
+func TestVTIZeroZSpacing2D(t *testing.T) {
+	m := outTestMask(npyGrid2(2, 2))
+	m.Grid.Spacing[2] = 0
+	var buf bytes.Buffer
+	if err := WriteVTI(&buf, m, VTIOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	if got := vtiParse(t, buf.Bytes()).attrs["ImageData"]["Spacing"]; got != "0.01 0.02 1" {
+		t.Errorf("Spacing = %q, want \"0.01 0.02 1\"", got)
+	}
+}
+
 func TestVTIHeaderSwitch(t *testing.T) {
 	for _, tc := range []struct {
 		n    uint64
