@@ -192,6 +192,11 @@ func outlinePrepare(o *importers.Outline, g masks.Grid, opts Options) (*o2Geom, 
 	}
 	ox, oy := g.Origin[0], g.Origin[1]
 	tagOf := map[int]int32{}
+	n := 0
+	for _, l := range o.Loops {
+		n += len(l.Points)
+	}
+	geo.edges = make([]o2Edge, 0, n)
 	for li, l := range o.Loops {
 		if len(l.Surfaces) != len(l.Points) {
 			return nil, fmt.Errorf("outline loop %d has %d edge surfaces for %d points, want one per edge", li, len(l.Surfaces), len(l.Points))

@@ -47,17 +47,22 @@ func outlineBenchGear() *importers.Outline {
 var outlineBenchCases = []struct {
 	name string
 	o    func() *importers.Outline
+	n    int // cells per side
 }{
-	{"cavity_tubes_20k_edges_2048x2048", outlineBenchCavity},
-	{"gear_20k_edges_2048x2048", outlineBenchGear},
+	{"cavity_tubes_20k_edges_512x512", outlineBenchCavity, 512},
+	{"cavity_tubes_20k_edges_2048x2048", outlineBenchCavity, 2048},
+	{"gear_20k_edges_512x512", outlineBenchGear, 512},
+	{"gear_20k_edges_2048x2048", outlineBenchGear, 2048},
 }
 
-func outlineBenchGrid() masks.Grid { return outlineTestGrid(2048, 2048, 0, 0, 1.0/2048, 1.0/2048) }
+func outlineBenchGrid(n int) masks.Grid {
+	return outlineTestGrid(n, n, 0, 0, 1/float64(n), 1/float64(n))
+}
 
 func BenchmarkOutlineFractions(b *testing.B) {
 	for _, bc := range outlineBenchCases {
 		b.Run(bc.name, func(b *testing.B) {
-			o, g := bc.o(), outlineBenchGrid()
+			o, g := bc.o(), outlineBenchGrid(bc.n)
 			for b.Loop() {
 				if _, err := OutlineFractions(context.Background(), o, g, 0); err != nil {
 					b.Fatal(err)
@@ -71,7 +76,7 @@ func BenchmarkOutlineFractions(b *testing.B) {
 func BenchmarkOutline(b *testing.B) {
 	for _, bc := range outlineBenchCases {
 		b.Run(bc.name, func(b *testing.B) {
-			o, g := bc.o(), outlineBenchGrid()
+			o, g := bc.o(), outlineBenchGrid(bc.n)
 			for b.Loop() {
 				if _, err := Outline(context.Background(), o, g, Options{}); err != nil {
 					b.Fatal(err)

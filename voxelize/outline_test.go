@@ -5,6 +5,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"sync/atomic"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r2"
@@ -371,6 +372,41 @@ func TestOutlineCancelled(t *testing.T) {
 	// Cancelled while running: every band checks the context first.
 	if err := outlineRun(ctx, 10, 2, func(_, _ int) { t.Error("band ran after cancellation") }); !errors.Is(err, context.Canceled) {
 		t.Errorf("outlineRun(cancelled) = %v, want context.Canceled", err)
+	}
+}
+
+// outlineCountdownCtx is a context that reports cancellation from its n-th
+// Err call on, to cancel a run part-way through.
+type outlineCountdownCtx struct {
+	context.Context
+	n *atomic.Int64
+}
+
+func (c outlineCountdownCtx) Err() error {
+	if c.n.Add(-1) < 0 {
+		return context.Canceled
+	}
+	return nil
+}
+
+func TestOutlineCancelledPartWay(t *testing.T) {
+	// Property: cancellation between bands (or between rows of the label
+	// sweep) stops the run and returns the context's error, whatever stage it
+	// falls in.
+	o := &importers.Outline{Loops: []importers.Loop{
+		outlineTestNgon(0, 0.5, 0.5, 0.3, 64, 0, true), outlineTestNgon(1, 0.5, 0.5, 0.1, 32, 0, false)}}
+	g := outlineTestGrid(64, 200, 0, 0, 1.0/64, 1.0/200)
+	for _, after := range []int64{1, 3, 8, 14, 16, 20} {
+		n := new(atomic.Int64)
+		n.Store(after)
+		ctx := outlineCountdownCtx{Context: context.Background(), n: n}
+		if _, err := Outline(ctx, o, g, Options{Workers: 2}); !errors.Is(err, context.Canceled) {
+			t.Errorf("Outline cancelled after %d checks: error %v, want context.Canceled", after, err)
+		}
+		n.Store(after)
+		if _, err := OutlineFractions(ctx, o, g, 2); after < 10 && !errors.Is(err, context.Canceled) {
+			t.Errorf("OutlineFractions cancelled after %d checks: error %v, want context.Canceled", after, err)
+		}
 	}
 }
 
