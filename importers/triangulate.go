@@ -29,8 +29,9 @@ var errTriStuck = errors.New("no ear left to clip: the loops cross, overlap or t
 // 2008): a ray from the hole's right-most vertex to +x finds the visible
 // outer vertex. The resulting weakly simple polygon is cut by ear clipping
 // (Meisters' two-ears theorem). Ears are tested against the reflex corners
-// only, so the cost is O(n r) for n corners and r reflex corners, O(n^2) in
-// the worst case (a region with many holes or a jagged outline).
+// only, found through a uniform grid, so the cost is close to O(n) for
+// well-spread corners; the worst case (every corner reflex and crowded
+// under long ears, or long runs of corners that are not ears) is O(n^2).
 func triRegion(outer []triPoint, holes [][]triPoint) ([][3]int32, error) {
 	poly := slices.Clone(outer)
 	type hole struct {
@@ -177,13 +178,34 @@ func triEarClip(poly []triPoint) ([][3]int32, error) {
 		alive[i] = true
 	}
 	cross := func(i int) float64 { return triCross(poly[prev[i]].p, poly[i].p, poly[next[i]].p) }
-	// Reflex corners only become convex as ears are cut, so the list only
-	// shrinks; dead or convex entries are dropped lazily.
-	var reflex []int
+	// Reflex corners only become convex as ears are cut, so they are filed
+	// once in a uniform grid of about one cell per reflex corner; dead or
+	// convex entries are skipped when met. An ear test then visits the
+	// cells under the ear's box instead of every reflex corner.
+	var reflex []int32
+	lo, hi := poly[0].p, poly[0].p
 	for i := range n {
+		p := poly[i].p
+		lo = r2.Vec{X: min(lo.X, p.X), Y: min(lo.Y, p.Y)}
+		hi = r2.Vec{X: max(hi.X, p.X), Y: max(hi.Y, p.Y)}
 		if cross(i) <= 0 {
-			reflex = append(reflex, i)
+			reflex = append(reflex, int32(i))
 		}
+	}
+	g := triNewGrid(lo, hi, len(reflex))
+	cellStart := make([]int32, g.nx*g.ny+1)
+	for _, j := range reflex {
+		cellStart[g.cell(poly[j].p)+1]++
+	}
+	for c := range g.nx * g.ny {
+		cellStart[c+1] += cellStart[c]
+	}
+	cellItems := make([]int32, len(reflex))
+	fill := append([]int32(nil), cellStart[:g.nx*g.ny]...)
+	for _, j := range reflex {
+		c := g.cell(poly[j].p)
+		cellItems[fill[c]] = j
+		fill[c]++
 	}
 	isEar := func(i int) bool {
 		a, b, c := poly[prev[i]].p, poly[i].p, poly[next[i]].p
@@ -192,16 +214,24 @@ func triEarClip(poly []triPoint) ([][3]int32, error) {
 		}
 		lo := r2.Vec{X: min(a.X, b.X, c.X), Y: min(a.Y, b.Y, c.Y)}
 		hi := r2.Vec{X: max(a.X, b.X, c.X), Y: max(a.Y, b.Y, c.Y)}
-		for _, j := range reflex {
-			if !alive[j] || j == i || j == prev[i] || j == next[i] {
-				continue
-			}
-			q := poly[j].p
-			if q.X < lo.X || q.X > hi.X || q.Y < lo.Y || q.Y > hi.Y || q == a || q == b || q == c {
-				continue
-			}
-			if cross(j) <= 0 && triInTriangleClosed(a, b, c, q) {
-				return false
+		x0, y0 := g.index(lo)
+		x1, y1 := g.index(hi)
+		for y := y0; y <= y1; y++ {
+			for x := x0; x <= x1; x++ {
+				cell := y*g.nx + x
+				for _, j32 := range cellItems[cellStart[cell]:cellStart[cell+1]] {
+					j := int(j32)
+					if !alive[j] || j == i || j == prev[i] || j == next[i] {
+						continue
+					}
+					q := poly[j].p
+					if q.X < lo.X || q.X > hi.X || q.Y < lo.Y || q.Y > hi.Y || q == a || q == b || q == c {
+						continue
+					}
+					if cross(j) <= 0 && triInTriangleClosed(a, b, c, q) {
+						return false
+					}
+				}
 			}
 		}
 		return true
@@ -212,14 +242,6 @@ func triEarClip(poly []triPoint) ([][3]int32, error) {
 		alive[i] = false
 		p, q := prev[i], next[i]
 		next[p], prev[q] = q, p
-		k := 0
-		for _, j := range reflex {
-			if alive[j] && cross(j) <= 0 {
-				reflex[k] = j
-				k++
-			}
-		}
-		reflex = reflex[:k]
 	}
 	left, cur := n, 0
 	for left > 3 {
@@ -259,4 +281,36 @@ func triEarClip(poly []triPoint) ([][3]int32, error) {
 		return nil, errTriStuck
 	}
 	return tris, nil
+}
+
+// triGrid is a uniform grid over a box, about one cell per item.
+type triGrid struct {
+	lo     r2.Vec
+	sx, sy float64 // cells per metre
+	nx, ny int
+}
+
+func triNewGrid(lo, hi r2.Vec, items int) triGrid {
+	side := max(1, int(math.Sqrt(float64(items))))
+	side = min(side, 1024)
+	g := triGrid{lo: lo, nx: side, ny: side}
+	if w := hi.X - lo.X; w > 0 {
+		g.sx = float64(side) / w
+	}
+	if h := hi.Y - lo.Y; h > 0 {
+		g.sy = float64(side) / h
+	}
+	return g
+}
+
+// index returns the cell column and row of p, clamped to the grid.
+func (g triGrid) index(p r2.Vec) (int, int) {
+	x := int((p.X - g.lo.X) * g.sx)
+	y := int((p.Y - g.lo.Y) * g.sy)
+	return min(max(x, 0), g.nx-1), min(max(y, 0), g.ny-1)
+}
+
+func (g triGrid) cell(p r2.Vec) int {
+	x, y := g.index(p)
+	return y*g.nx + x
 }
