@@ -25,13 +25,12 @@ type asmEdgeSet struct {
 	loops []asmLoop
 	off   []int
 	loop  []int32
+	ends  [][2]r2.Vec // start and end of each edge
 }
 
 func (es *asmEdgeSet) seg(g int) (l, k int, a, b r2.Vec) {
 	l = int(es.loop[g])
-	k = g - es.off[l]
-	pts := es.loops[l].pts
-	return l, k, pts[k], pts[(k+1)%len(pts)]
+	return l, g - es.off[l], es.ends[g][0], es.ends[g][1]
 }
 
 func asmNewSegGrid(es *asmEdgeSet) *asmSegGrid {
@@ -83,7 +82,17 @@ func (g *asmSegGrid) each(a, b r2.Vec, f func(c int)) {
 	pad := g.h * 1e-9
 	ylo, yhi := min(a.Y, b.Y)-pad, max(a.Y, b.Y)+pad
 	xmin, xmax := min(a.X, b.X), max(a.X, b.X)
-	for r := g.row(ylo); r <= g.row(yhi); r++ {
+	r0, r1 := g.row(ylo), g.row(yhi)
+	if c0, c1 := g.col(xmin-pad), g.col(xmax+pad); (r1-r0+1)*(c1-c0+1) <= 4 {
+		// Short edges (nearly all): the bounding box's cells, a superset.
+		for r := r0; r <= r1; r++ {
+			for c := c0; c <= c1; c++ {
+				f(r*g.nx + c)
+			}
+		}
+		return
+	}
+	for r := r0; r <= r1; r++ {
 		x0, x1 := xmin, xmax
 		if a.Y != b.Y {
 			y0 := max(ylo, g.lo.Y+float64(r)*g.h-pad)
@@ -134,8 +143,9 @@ func (s *asmState) checkIntersections(loops []asmLoop) {
 	es := &asmEdgeSet{loops: loops, off: make([]int, len(loops))}
 	for li, l := range loops {
 		es.off[li] = len(es.loop)
-		for range l.pts {
+		for k := range l.pts {
 			es.loop = append(es.loop, int32(li))
+			es.ends = append(es.ends, [2]r2.Vec{l.pts[k], l.pts[(k+1)%len(l.pts)]})
 		}
 	}
 	n := len(es.loop)

@@ -9,65 +9,94 @@ import (
 // asmCell is a cell of an asmGrid.
 type asmCell struct{ x, y int64 }
 
-// asmGrid finds every point within one cell size of a query: a hash grid
-// with open addressing (linear probing, table at most half full), so a query
-// costs nine probes whatever the cell size (the join tolerance can be a
-// billionth of the drawing, so the cells cannot be a dense array).
-type asmGrid struct {
-	h    float64
-	pts  []r2.Vec
-	mask uint64
-	key  []asmCell // per slot
-	head []int32   // per slot: first point of the cell, -1 for an empty slot
-	next []int32   // per point: next point in the same cell, -1 at the end
+// asmSlot is one slot of an asmGrid's open-addressing table.
+type asmSlot struct {
+	key  asmCell
+	head int32 // first point of the cell, -1 for an empty slot
 }
 
-// asmNewGrid indexes pts with cells of size h. h is raised to a few ulps of
-// the largest coordinate so that cell indices stay well inside int64.
-// Cost: O(n).
-func asmNewGrid(pts []r2.Vec, h, maxAbs float64) *asmGrid {
-	h = max(h, maxAbs*1e-15, math.SmallestNonzeroFloat64*1e10)
+// asmGrid finds every point within a reach of a query. Cells are twice the
+// reach, so the points within reach of p lie in the 2x2 block of cells on
+// p's side of its cell's centre: four probes per query. The cells live in a
+// hash table with open addressing (linear probing, at most half full)
+// because the reach can be a billionth of the drawing, far too fine for a
+// dense array.
+type asmGrid struct {
+	h     float64 // cell size, twice the reach
+	pts   []r2.Vec
+	mask  uint64
+	slots []asmSlot
+	next  []int32 // per point: next point in the same cell, -1 at the end
+}
+
+// asmNewGrid indexes pts for queries within reach. The cell size is raised
+// to a few ulps of the largest coordinate so that cell indices stay well
+// inside int64. Cost: O(n).
+func asmNewGrid(pts []r2.Vec, reach, maxAbs float64) *asmGrid {
+	h := max(2*reach, maxAbs*1e-15, math.SmallestNonzeroFloat64*1e10)
 	size := 16
 	for size < 2*len(pts) {
 		size *= 2
 	}
-	g := &asmGrid{h: h, pts: pts, mask: uint64(size - 1), key: make([]asmCell, size), head: make([]int32, size), next: make([]int32, len(pts))}
-	for i := range g.head {
-		g.head[i] = -1
+	g := &asmGrid{h: h, pts: pts, mask: uint64(size - 1), slots: make([]asmSlot, size), next: make([]int32, len(pts))}
+	for i := range g.slots {
+		g.slots[i].head = -1
 	}
 	for i := len(pts) - 1; i >= 0; i-- { // backwards, so each cell lists its points in increasing order
-		s := g.slot(g.cell(pts[i]))
-		g.next[i] = g.head[s]
-		g.head[s] = int32(i)
+		c, _, _ := g.cell(pts[i])
+		s := g.slot(c)
+		g.next[i] = g.slots[s].head
+		g.slots[s].key, g.slots[s].head = c, int32(i)
 	}
 	return g
 }
 
-func (g *asmGrid) cell(p r2.Vec) asmCell {
-	return asmCell{int64(math.Floor(p.X / g.h)), int64(math.Floor(p.Y / g.h))}
+// cell returns the cell of p and the side of the cell's centre p is on in
+// x and y (-1 or +1; 0 when p is too close to the centre to tell, so that
+// both neighbours must be searched).
+func (g *asmGrid) cell(p r2.Vec) (c asmCell, sx, sy int64) {
+	side := func(v float64) (int64, int64) {
+		f := math.Floor(v)
+		switch fr := v - f; {
+		case fr < 0.5-1e-6:
+			return int64(f), -1
+		case fr > 0.5+1e-6:
+			return int64(f), 1
+		}
+		return int64(f), 0
+	}
+	c.x, sx = side(p.X / g.h)
+	c.y, sy = side(p.Y / g.h)
+	return c, sx, sy
 }
 
-// slot returns the slot of cell c: the one holding it, else the empty slot
-// where it belongs (with the key set, ready for insertion).
+// slot returns the slot holding cell c, else the empty slot where it
+// belongs.
 func (g *asmGrid) slot(c asmCell) uint64 {
 	h := uint64(c.x)*0x9E3779B97F4A7C15 ^ uint64(c.y)*0xC2B2AE3D27D4EB4F
 	h ^= h >> 31
 	s := h & g.mask
-	for g.head[s] >= 0 && g.key[s] != c {
+	for g.slots[s].head >= 0 && g.slots[s].key != c {
 		s = (s + 1) & g.mask
 	}
-	g.key[s] = c
 	return s
 }
 
-// near calls f for every indexed point in the 3x3 cells around p, in
-// increasing index order within each cell. Every point within g.h of p is
-// among them.
+// near calls f for every indexed point in the cells that can hold points
+// within reach of p (four, nine near a cell's centre lines), in increasing
+// index order within each cell. Every point within reach is among them.
 func (g *asmGrid) near(p r2.Vec, f func(i int)) {
-	c := g.cell(p)
-	for dx := int64(-1); dx <= 1; dx++ {
-		for dy := int64(-1); dy <= 1; dy++ {
-			for j := g.head[g.slot(asmCell{c.x + dx, c.y + dy})]; j >= 0; j = g.next[j] {
+	c, sx, sy := g.cell(p)
+	x0, x1, y0, y1 := c.x+min(sx, 0), c.x+max(sx, 0), c.y+min(sy, 0), c.y+max(sy, 0)
+	if sx == 0 {
+		x0, x1 = c.x-1, c.x+1
+	}
+	if sy == 0 {
+		y0, y1 = c.y-1, c.y+1
+	}
+	for x := x0; x <= x1; x++ {
+		for y := y0; y <= y1; y++ {
+			for j := g.slots[g.slot(asmCell{x, y})].head; j >= 0; j = g.next[j] {
 				f(int(j))
 			}
 		}
@@ -75,7 +104,7 @@ func (g *asmGrid) near(p r2.Vec, f func(i int)) {
 }
 
 // eachNear calls f(i, j) for every ordered pair of distinct indexed points
-// in neighbouring cells (3x3), which includes every pair closer than g.h.
+// that near pairs up, which includes every pair within reach.
 // Cost: O(n) plus the pairs found.
 func (g *asmGrid) eachNear(f func(i, j int)) {
 	for i, p := range g.pts {
