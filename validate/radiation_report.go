@@ -300,6 +300,7 @@ func NewRadiationReport(c RadiationCase) (*RadiationReport, error) {
 	}
 	d := &RadiationDifference{F: make([][]float64, n), Sigma: make([][]float64, n), Z: make([][]float64, n)}
 	worst, worstLimit, worstZ := 0.0, th.FactorTolerance, 0.0
+	worstExcess := 0.0 // largest |diff| / limit
 	factorPass := true
 	for i := range n {
 		d.F[i] = make([]float64, n+1)
@@ -319,14 +320,14 @@ func NewRadiationReport(c RadiationCase) (*RadiationReport, error) {
 			if math.Abs(diff) > limit {
 				factorPass = false
 			}
-			if math.Abs(diff)-limit > worst-worstLimit {
-				worst, worstLimit = math.Abs(diff), limit
+			if ex := math.Abs(diff) / limit; ex > worstExcess {
+				worst, worstLimit, worstExcess = math.Abs(diff), limit, ex
 			}
 			worstZ = max(worstZ, math.Abs(d.Z[i][j]))
 		}
 	}
-	add(RadiationCheck{Name: "factors mask vs geometry", Value: worst, Limit: worstLimit, Pass: factorPass,
-		Note: fmt.Sprintf("worst |F_mask - F_geometry| against factor_tolerance + max_z*sigma at that entry; max |z| = %.3g", worstZ)})
+	add(RadiationCheck{Name: "factors mask vs geometry", Value: worstExcess, Limit: 1, Pass: factorPass,
+		Note: fmt.Sprintf("largest |F_mask - F_geometry| / (factor_tolerance + max_z*sigma): %.4g against %.4g at the worst entry; max |z| = %.3g", worst, worstLimit, worstZ)})
 	qm, qg := rep.Mask.NetHeat, rep.Geometry.NetHeat
 	var scale float64
 	for _, q := range qg {

@@ -480,13 +480,87 @@ func (sc *radMaskScene) march(o, d [3]float64) (cell int, ok bool) {
 }
 
 // hitCell returns the cell whose surface id names what the ray x(t) struck
-// at t: the cell half a cell back along the ray, on the fluid side of the
-// crossing. Its nearest surface is the one the ray approached; the cell
-// holding the crossing itself may be a solid cell at a corner, equidistant
-// from two faces, whose id is a coin toss. A back-off cell without an id
-// falls back to the crossing's cell.
+// at t. Among the cells whose centres surround the crossing (the
+// interpolation stencil) it takes the interface cell whose normal best
+// matches the gradient of the interpolated distance there, the normal of
+// the reconstructed surface the ray actually met. Nearest-surface ids alone
+// are a coin toss in the cells of a corner, equidistant from two faces; at
+// a concave edge they would hand hits on one wall to the other. When no
+// stencil cell has a normal it falls back to the cell half a cell back along
+// the ray, on the fluid side, and then to the crossing's own cell.
 func (sc *radMaskScene) hitCell(at func(float64) [3]float64, t float64) int {
-	c := sc.cellAt(at(t))
+	x := at(t)
+	var i0, i1 [3]int
+	var f [3]float64
+	for a := range sc.dim {
+		u := (x[a]-sc.org[a])/sc.h[a] - 0.5
+		fl := math.Floor(u)
+		f[a] = u - fl
+		i0[a] = max(0, min(int(fl), sc.n[a]-1))
+		i1[a] = max(0, min(int(fl)+1, sc.n[a]-1))
+	}
+	corners := 4
+	if sc.dim == 3 {
+		corners = 8
+	}
+	var cell [8]int
+	var val [8]float64
+	var g [3]float64
+	for k := range corners {
+		var idx [3]int
+		w := [3]float64{1, 1, 1}
+		for a := range sc.dim {
+			if k>>a&1 == 1 {
+				idx[a] = i1[a]
+			} else {
+				idx[a] = i0[a]
+			}
+		}
+		cell[k] = idx[0] + sc.n[0]*(idx[1]+sc.n[1]*idx[2])
+		val[k] = float64(sc.sdf[cell[k]])
+		// d/dx_a of the multilinear weights.
+		for a := range sc.dim {
+			for b := range sc.dim {
+				wb := 1 - f[b]
+				if k>>b&1 == 1 {
+					wb = f[b]
+				}
+				if a == b {
+					wb = -1 / sc.h[b]
+					if k>>b&1 == 1 {
+						wb = 1 / sc.h[b]
+					}
+				}
+				w[a] *= wb
+			}
+		}
+		for a := range sc.dim {
+			g[a] += w[a] * val[k]
+		}
+	}
+	best, bestScore := -1, math.Inf(-1)
+	for k := range corners {
+		c := cell[k]
+		if sc.sid[c] <= 0 {
+			continue
+		}
+		var dot, nn float64
+		for a := range sc.dim {
+			n := float64(sc.normals[c*sc.dim+a])
+			dot += n * g[a]
+			nn += n * n
+		}
+		if nn < 0.25 {
+			continue
+		}
+		if dot > bestScore {
+			best, bestScore = c, dot
+		}
+	}
+	if best >= 0 {
+		return best
+	}
+	c := sc.cellAt(x)
 	b := sc.cellAt(at(max(0, t-0.5*sc.hmin)))
 	if sc.sid[b] > 0 {
 		return b
