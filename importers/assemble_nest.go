@@ -63,10 +63,7 @@ func asmInside(a, b *asmLoop) bool {
 // the same kind and orients the others with solid on the left. It returns the
 // kept loops in their input order.
 //
-// Loops are inserted from the largest |area| down, each descending the tree
-// from the roots through the children whose bounding box holds it and that
-// contain one of its vertices; an ancestor always has a larger area, so it is
-// already in the tree. Solidity follows Jordan-curve winding numbers per
+// Solidity follows Jordan-curve winding numbers per
 // fill group (SVG 1.1 section 11.4, fill-rule), united across groups.
 func (s *asmState) nest(loops []asmLoop) []asmLoop {
 	n := len(loops)
@@ -78,22 +75,11 @@ func (s *asmState) nest(loops []asmLoop) []asmLoop {
 		return cmp.Compare(math.Abs(loops[b].area), math.Abs(loops[a].area))
 	})
 	children := make([][]int, n+1) // children[n] holds the roots
-	for _, i := range order {
-		at := n
-	descend:
-		for {
-			for _, c := range children[at] {
-				if asmInside(&loops[i], &loops[c]) {
-					at = c
-					continue descend
-				}
-			}
-			break
+	for i, p := range asmParents(loops, order) {
+		if p < 0 {
+			p = n
 		}
-		children[at] = append(children[at], i)
-	}
-	for _, c := range children {
-		slices.Sort(c) // visit in file order, for deterministic warnings
+		children[p] = append(children[p], i) // in file order, for deterministic warnings
 	}
 
 	wind := make([]int, len(s.rules))
@@ -161,6 +147,63 @@ func (s *asmState) nest(loops []asmLoop) []asmLoop {
 		}
 	}
 	return out
+}
+
+// asmParents returns the parent of every loop in the containment tree (-1
+// for a root), given the loops in order of decreasing |area|.
+//
+// An ancestor always has the larger area, so it is processed first. Each
+// processed loop is listed in the cells of a uniform grid that its bounding
+// box overlaps; a loop's ancestors all overlap the cell of its first vertex,
+// and that cell's list runs in decreasing area, so scanning it from the end
+// the first loop that contains the new one is its parent. The cell size
+// starts at about one cell per loop and doubles until the listings stay
+// below 64 per loop, so the cost is near-linear for a plate with thousands of
+// holes and for deep nests of rings alike.
+func asmParents(loops []asmLoop, order []int) []int {
+	n := len(loops)
+	parent := make([]int, n)
+	if n == 0 {
+		return parent
+	}
+	lo, hi := loops[0].lo, loops[0].hi
+	for _, l := range loops {
+		lo.X, lo.Y = min(lo.X, l.lo.X), min(lo.Y, l.lo.Y)
+		hi.X, hi.Y = max(hi.X, l.hi.X), max(hi.Y, l.hi.Y)
+	}
+	w, ht := hi.X-lo.X, hi.Y-lo.Y
+	h := max(math.Sqrt(w*ht/float64(n)), max(w, ht)/float64(n), math.SmallestNonzeroFloat64*1e10)
+	var nx, ny int
+	cellOf := func(v, o float64, m int) int { return min(max(int((v-o)/h), 0), m-1) }
+	for {
+		nx, ny = int(w/h)+1, int(ht/h)+1
+		total := 0
+		for _, l := range loops {
+			total += (cellOf(l.hi.X, lo.X, nx) - cellOf(l.lo.X, lo.X, nx) + 1) * (cellOf(l.hi.Y, lo.Y, ny) - cellOf(l.lo.Y, lo.Y, ny) + 1)
+		}
+		if total <= 64*n+4096 || nx*ny == 1 {
+			break
+		}
+		h *= 2
+	}
+	cells := make([][]int32, nx*ny)
+	for _, i := range order {
+		l := &loops[i]
+		parent[i] = -1
+		list := cells[cellOf(l.pts[0].Y, lo.Y, ny)*nx+cellOf(l.pts[0].X, lo.X, nx)]
+		for k := len(list) - 1; k >= 0; k-- {
+			if j := int(list[k]); asmInside(l, &loops[j]) {
+				parent[i] = j
+				break
+			}
+		}
+		for y := cellOf(l.lo.Y, lo.Y, ny); y <= cellOf(l.hi.Y, lo.Y, ny); y++ {
+			for x := cellOf(l.lo.X, lo.X, nx); x <= cellOf(l.hi.X, lo.X, nx); x++ {
+				cells[y*nx+x] = append(cells[y*nx+x], int32(i))
+			}
+		}
+	}
+	return parent
 }
 
 // asmReverse turns l around in place, keeping each edge's surface and source

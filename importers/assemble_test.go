@@ -742,3 +742,26 @@ func FuzzAssemble(f *testing.F) {
 		}
 	})
 }
+
+// BenchmarkAssemblePerforated is a plate with a grid of square holes, the
+// case where one loop has thousands of children.
+func BenchmarkAssemblePerforated(b *testing.B) {
+	for _, n := range []int{20, 60} {
+		pls := []Polyline{asmRect(0, 0, float64(n), float64(n), false, "PLATE")}
+		for i := range n {
+			for j := range n {
+				pls = append(pls, asmRect(float64(i)+0.25, float64(j)+0.25, float64(i)+0.75, float64(j)+0.75, false, "HOLE"))
+			}
+		}
+		d := asmTestDrawing(nil, pls...)
+		b.Run(fmt.Sprintf("holes=%d", n*n), func(b *testing.B) {
+			for b.Loop() {
+				o, _, err := Assemble([]*Drawing{d}, AssembleOptions{})
+				if err != nil || math.Abs(o.Area()-float64(n*n)*0.75) > 1e-9*float64(n*n) {
+					b.Fatalf("Assemble: %v, area %g", err, o.Area())
+				}
+			}
+			b.ReportMetric(float64(len(pls))*float64(b.N)/b.Elapsed().Seconds(), "loops/s")
+		})
+	}
+}
