@@ -33,7 +33,7 @@ type MeshReport struct {
 	InconsistentEdges []EdgeDefect
 
 	Degenerate []int // facets with zero area: repeated corners, or all corners on a line (see DiagnoseMesh)
-	Duplicates []int // facets with the same three vertices as an earlier facet, either winding
+	Duplicates []int // facets with the same three vertices as an earlier facet on the same surface, either winding
 
 	Flipped            int // facets OrientConsistently would reverse
 	InconsistentShells int // shells that admit no consistent winding

@@ -212,6 +212,7 @@ func TestDiagnoseMeshDefects(t *testing.T) {
 	sliver.Triangles = append(sliver.Triangles, [3]int32{0, 8, 1}, [3]int32{0, 0, 1})
 	sliver.TriangleSurface = append(sliver.TriangleSurface, 0, 0)
 
+	wall := meshTestAppend(meshTestCube(), meshTestBox(r3.Vec{X: 1}, r3.Vec{X: 2, Y: 1, Z: 1}), "right")
 	for _, tc := range []struct {
 		name                      string
 		m                         *Mesh
@@ -229,6 +230,8 @@ func TestDiagnoseMeshDefects(t *testing.T) {
 		{name: "flipped facet", m: flipped, welded: 8, shells: 1, inconsistent: 3, flipped: 1, watertight: true, volume: 1 - 1.0/3},
 		{name: "non-manifold fin", m: fin, welded: 9, shells: 1, nonManifold: 1, boundary: meshTestEdgeSet(meshTestTriangleEdges(fin, 12)[1:]), volume: math.NaN()},
 		{name: "duplicate facets", m: dupFacet, welded: 8, shells: 1, duplicates: []int{12, 13}, volume: math.NaN()},
+		// The four sides and the diagonal of the shared wall join four facets each.
+		{name: "solids sharing a wall", m: Weld(wall, 0), welded: 12, shells: 1, nonManifold: 5, volume: 2},
 		{name: "facet soup welded within 1e-6", m: soup, tol: 1e-6, welded: 8, shells: 1, watertight: true, oriented: true, volume: math.NaN()},
 		{name: "facet soup unwelded", m: soup, tol: 0, welded: 36, shells: 12, boundary: make([][2]r3.Vec, 36), volume: math.NaN()},
 		{name: "degenerate facets", m: sliver, welded: 9, shells: 1, nonManifold: 1, degenerate: []int{12, 13}, boundary: meshTestEdgeSet(meshTestTriangleEdges(sliver, 12)[:2]), volume: 1},

@@ -9,19 +9,24 @@ import (
 // OrientReport says what OrientConsistently changed.
 type OrientReport struct {
 	Flipped      int // triangles whose winding was reversed
-	Duplicates   int // facets removed because an earlier facet has the same three vertices (either winding)
+	Duplicates   int // facets removed because an earlier facet on the same surface has the same three vertices (either winding)
 	Shells       int // edge-connected components of the remaining facets
 	Inconsistent int // shells that admit no consistent winding (a Moebius-like strip, or a conflict across non-manifold edges); left as found where the conflict is
 }
 
 // OrientConsistently returns a copy of m whose facets are wound
 // consistently and outward, with exact duplicate facets removed, and a
-// report of what it did. It works on the indices as they are: call Weld
+// report of what it did. A duplicate has the same three vertices as an
+// earlier facet on the same surface, in either winding; facets that
+// coincide on different surfaces are the shared wall of two touching
+// solids and are kept. It works on the indices as they are: call Weld
 // first when facets that touch do not share vertex indices (ReadSTL already
 // merges identical coordinates).
 //
 // Facets are grouped into patches joined by manifold edges (edges with
-// exactly two facets). Each patch is walked breadth-first from its lowest
+// exactly two facets), and across a non-manifold edge by the two facets of
+// one surface when exactly two of its facets meet there (solids on their own
+// surfaces that share a wall). Each patch is walked breadth-first from its lowest
 // facet, and a neighbour is flipped when it runs along the shared edge in
 // the same direction. A patch that is sealed (no boundary edge) then gets
 // the sign of its volume fixed: positive when it is nested inside an even
@@ -84,7 +89,7 @@ type meshEdgeGroup struct {
 func meshPlanOrientation(m *Mesh) *meshOrientPlan {
 	n, nv := len(m.Triangles), len(m.Vertices)
 	p := &meshOrientPlan{flip: make([]bool, n), shell: make([]int32, n)}
-	p.dup, p.duplicates = meshDuplicateFacets(m.Triangles, nv)
+	p.dup, p.duplicates = meshDuplicateFacets(m.Triangles, m.TriangleSurface, nv)
 	p.skip = make([]bool, n)
 	for t, tr := range m.Triangles {
 		p.skip[t] = p.dup[t] || meshRepeatedCorner(tr)
@@ -130,6 +135,24 @@ func meshPlanOrientation(m *Mesh) *meshOrientPlan {
 			}
 		default:
 			p.nonManifold = append(p.nonManifold, group(lo, uses))
+			// Where exactly two of the facets are on one surface, they
+			// continue that surface across the edge (two solids that share
+			// a wall or an edge, each on its own surface).
+			for i, a := range uses {
+				partner, count := -1, 0
+				for k, b := range uses {
+					if meshSurfaceOf(m, b.tri) == meshSurfaceOf(m, a.tri) {
+						count++
+						if k != i {
+							partner = k
+						}
+					}
+				}
+				if count == 2 {
+					b := uses[partner]
+					nb[3*a.tri+int32(a.side)], same[3*a.tri+int32(a.side)] = b.tri, a.fwd == b.fwd
+				}
+			}
 		}
 		r0 := find(uses[0].tri)
 		for _, u := range uses[1:] {
@@ -178,9 +201,7 @@ func meshPlanOrientation(m *Mesh) *meshOrientPlan {
 			for s := range int32(3) {
 				u := nb[3*t+s]
 				if u < 0 {
-					if !meshSideCollapsed(m.Triangles[t], s) && !meshSideShared(p.edges, m.Triangles[t], s) {
-						open = true
-					}
+					open = true // a hole, or an edge shared by facets that cannot be paired
 					continue
 				}
 				want := p.flip[t] != same[3*t+s]
@@ -210,29 +231,20 @@ func meshPlanOrientation(m *Mesh) *meshOrientPlan {
 	return p
 }
 
-// meshSideCollapsed reports whether side s of t joins two equal indices.
-func meshSideCollapsed(t [3]int32, s int32) bool { return t[s] == t[(s+1)%3] }
-
-// meshSideShared reports whether side s of t belongs to an edge used by more
-// than two facets (a non-manifold edge, which does not open a patch).
-func meshSideShared(e *meshEdges, t [3]int32, s int32) bool {
-	a, b := t[s], t[(s+1)%3]
-	lo, hi := min(a, b), max(a, b)
-	n := 0
-	for _, u := range e.uses[e.start[lo]:e.start[lo+1]] {
-		if u.hi == hi {
-			n++
-		}
+// meshSurfaceOf returns the surface index of facet t, 0 when m has none.
+func meshSurfaceOf(m *Mesh, t int32) int32 {
+	if int(t) < len(m.TriangleSurface) {
+		return m.TriangleSurface[t]
 	}
-	return n > 2
+	return 0
 }
 
 // meshPatch is a sealed, consistently wound patch of facets.
 type meshPatch struct {
 	tris   []int32
-	lo, hi r3.Vec  // bounding box
-	probe  r3.Vec  // a point on the patch (centroid of its first facet)
-	volume float64 // signed volume with the planned flips
+	lo, hi r3.Vec   // bounding box
+	probes []r3.Vec // points on the patch (centroids of up to 8 of its facets)
+	volume float64  // signed volume with the planned flips
 }
 
 func meshNewPatch(m *Mesh, flip []bool, members []int32) meshPatch {
@@ -253,8 +265,10 @@ func meshNewPatch(m *Mesh, flip []bool, members []int32) meshPatch {
 			pt.hi = r3.Vec{X: math.Max(pt.hi.X, v.X), Y: math.Max(pt.hi.Y, v.Y), Z: math.Max(pt.hi.Z, v.Z)}
 		}
 	}
-	tr := m.Triangles[members[0]]
-	pt.probe = r3.Scale(1.0/3, r3.Add(m.Vertices[tr[0]], r3.Add(m.Vertices[tr[1]], m.Vertices[tr[2]])))
+	for k := range min(8, len(members)) {
+		tr := m.Triangles[members[k*len(members)/min(8, len(members))]]
+		pt.probes = append(pt.probes, r3.Scale(1.0/3, r3.Add(m.Vertices[tr[0]], r3.Add(m.Vertices[tr[1]], m.Vertices[tr[2]]))))
+	}
 	return pt
 }
 
@@ -266,14 +280,28 @@ func meshOrientSealed(m *Mesh, flip []bool, sealed []meshPatch) {
 		if pi.volume == 0 {
 			continue
 		}
+		// A probe on another patch (touching solids) sees a winding
+		// number near 1/2 there; such probes are skipped.
 		depth := 0
-		for j := range sealed {
-			pj := &sealed[j]
-			if j == i || !meshBoxContains(pj.lo, pj.hi, pi.probe) {
-				continue
+		for _, q := range pi.probes {
+			d, clear := 0, true
+			for j := range sealed {
+				pj := &sealed[j]
+				if j == i || !meshBoxContains(pj.lo, pj.hi, q) {
+					continue
+				}
+				w := math.Abs(meshWindingNumber(m, flip, pj.tris, q))
+				if math.Abs(w-math.Round(w)) > 0.25 {
+					clear = false
+					break
+				}
+				if w > 0.5 {
+					d++
+				}
 			}
-			if math.Abs(meshWindingNumber(m, flip, pj.tris, pi.probe)) > 0.5 {
-				depth++
+			depth = d
+			if clear {
+				break
 			}
 		}
 		if (pi.volume < 0) == (depth%2 == 0) {

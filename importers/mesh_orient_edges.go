@@ -91,15 +91,24 @@ func (e *meshEdges) each(f func(lo int32, uses []meshEdgeUse)) {
 	}
 }
 
-// meshDuplicateFacets returns skip flags for the triangles that repeat the
-// vertex set of an earlier triangle (in either winding), and those
-// triangles' indices in increasing order. Triangles with repeated corners
+// meshDuplicateFacets returns skip flags for the facets that repeat an
+// earlier facet, and their indices in increasing order. A facet repeats an
+// earlier one when it has the same three vertices, in either winding, on
+// the same surface (surf may be nil: then every facet is on one surface).
+// Facets with the same vertices on different surfaces are kept: they are
+// the shared wall of two solids that touch, whatever their winding. Facets with repeated corners
 // are not considered. A facet and its copy share all three edges, so they
 // meet in the group of the edge joining their two lowest corners, with the
 // same third vertex.
-func meshDuplicateFacets(tris [][3]int32, nv int) ([]bool, []int) {
+func meshDuplicateFacets(tris [][3]int32, surf []int32, nv int) ([]bool, []int) {
 	e := meshBuildEdges(tris, nv, nil)
 	dup := make([]bool, len(tris))
+	surface := func(t int32) int32 {
+		if int(t) < len(surf) {
+			return surf[t]
+		}
+		return 0
+	}
 	var list []int
 	e.each(func(lo int32, uses []meshEdgeUse) {
 		for i := 0; i < len(uses); {
@@ -107,14 +116,18 @@ func meshDuplicateFacets(tris [][3]int32, nv int) ([]bool, []int) {
 			for j < len(uses) && uses[j].third == uses[i].third {
 				j++
 			}
-			// uses[i:j] all have vertex set {lo, hi, third}; count it once,
-			// on the edge that joins the two lowest corners.
+			// uses[i:j] all have vertex set {lo, hi, third}, in facet
+			// order; count them once, on the edge that joins the two
+			// lowest corners.
 			if j-i > 1 && uses[i].third > uses[i].hi {
-				first := uses[i].tri // sorted by tri within equal third
-				for _, u := range uses[i+1 : j] {
-					if u.tri != first && !dup[u.tri] {
-						dup[u.tri] = true
-						list = append(list, int(u.tri))
+				for k := i + 1; k < j; k++ {
+					u := uses[k]
+					for _, v := range uses[i:k] {
+						if !dup[v.tri] && surface(v.tri) == surface(u.tri) {
+							dup[u.tri] = true
+							list = append(list, int(u.tri))
+							break
+						}
 					}
 				}
 			}

@@ -36,6 +36,10 @@ func TestOrientConsistently(t *testing.T) {
 	open.TriangleSurface = open.TriangleSurface[:10]
 	open = meshTestFlip(open, 3, 5, 8)
 
+	// Two solids on their own surfaces sharing the wall x = 1: the shared
+	// facets have the same vertices and opposite windings.
+	wall := Weld(meshTestAppend(meshTestCube(), meshTestBox(r3.Vec{X: 1}, r3.Vec{X: 2, Y: 1, Z: 1}), "right"), 0)
+	wallFlipped := Weld(meshTestAppend(meshTestCube(), meshTestFlip(meshTestBox(r3.Vec{X: 1}, r3.Vec{X: 2, Y: 1, Z: 1}), all...), "right"), 0)
 	for _, tc := range []struct {
 		name         string
 		m            *Mesh
@@ -52,6 +56,8 @@ func TestOrientConsistently(t *testing.T) {
 		{"hollow box kept", hollow, OrientReport{Shells: 2}, 26, nil},
 		{"hollow box with outward cavity", hollowWrong, OrientReport{Flipped: 12, Shells: 2}, 26, nil},
 		{"two separate boxes", twoApart, OrientReport{Flipped: 12, Shells: 2}, 3, nil},
+		{"solids sharing a wall", wall, OrientReport{Shells: 1}, 2, nil},
+		{"solids sharing a wall, one inside out", wallFlipped, OrientReport{Flipped: 12, Shells: 1}, 2, nil},
 		{"duplicates removed", dup, OrientReport{Duplicates: 2, Shells: 1}, 1, nil},
 		{"open box by majority", open, OrientReport{Flipped: 3, Shells: 1}, math.NaN(), meshTestFlip(open, 3, 5, 8)},
 	} {
