@@ -2,6 +2,7 @@ package voxelize
 
 import (
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/spatial/r3"
 
@@ -28,18 +29,19 @@ const m3ScratchPerCell = 8 + 4 + 1 + 24 + 4*m3MaxNear + 1 + 1 + 4 + 4
 
 // m3Scratch is one worker's reusable block buffers.
 type m3Scratch struct {
-	d2    []float64 // squared distance to the best triangle so far
-	tri   []int32   // best triangle, -1 when none is within the band
-	feat  []uint8   // its closest feature
-	q     []r3.Vec  // the closest point
-	near  []int32   // m3MaxNear facet planes per cell within half a diagonal
-	nearN []uint8   // how many; m3MaxNear+1 means more
-	sgn   []int8    // -1 solid, +1 fluid, 0 not yet known
-	conf  []float32 // sign confidence (winding numbers only)
-	queue []int32
-	poly  pcPoly
-	pn    [][3]float64
-	pphi  []float64
+	d2      []float64 // squared distance to the best triangle so far
+	tri     []int32   // best triangle, -1 when none is within the band
+	feat    []uint8   // its closest feature
+	q       []r3.Vec  // the closest point
+	near    []int32   // m3MaxNear facet planes per cell within half a diagonal
+	nearN   []uint8   // how many; m3MaxNear+1 means more
+	sgn     []int8    // -1 solid, +1 fluid, 0 not yet known
+	conf    []float32 // sign confidence (winding numbers only)
+	area    []float64 // facet area inside the cell, m^2
+	rowSign []int8    // per x row of the block: 0 no sign yet, 2 resolved
+	poly    pcPoly
+	pn      [][3]float64
+	pphi    []float64
 }
 
 func newM3Scratch() any {
@@ -47,7 +49,7 @@ func newM3Scratch() any {
 	return &m3Scratch{
 		d2: make([]float64, n), tri: make([]int32, n), feat: make([]uint8, n), q: make([]r3.Vec, n),
 		near: make([]int32, n*m3MaxNear), nearN: make([]uint8, n), sgn: make([]int8, n),
-		conf: make([]float32, n), queue: make([]int32, 0, n),
+		conf: make([]float32, n), area: make([]float64, n), rowSign: make([]int8, m3BlockSize*m3BlockSize),
 	}
 }
 
@@ -67,7 +69,7 @@ func (j *m3Job) block(b int, s *m3Scratch) {
 	nc := n[0] * n[1] * n[2]
 	init2 := math.Nextafter(j.band*j.band, math.Inf(1))
 	for c := range nc {
-		s.d2[c], s.tri[c], s.nearN[c], s.sgn[c], s.conf[c] = init2, -1, 0, 0, 1
+		s.d2[c], s.tri[c], s.nearN[c], s.sgn[c], s.conf[c], s.area[c] = init2, -1, 0, 0, 1, 0
 	}
 	res := &j.results[b]
 	for _, t := range j.binTri[j.binStart[b]:j.binStart[b+1]] {
@@ -141,6 +143,16 @@ func (j *m3Job) raster(blk masks.Block, n [3]int, t int, s *m3Scratch) {
 	}
 	fn := j.x.FaceNormal(t)
 	r2 := j.rCell * j.rCell
+	hy, hz := j.h[1], j.h[2]
+	// For the facet area the triangle is moved a hair (1e-9 cells) into the
+	// solid, so a facet lying on a cell face counts once, in the cell on its
+	// solid side.
+	sh := r3.Scale(-1e-9*j.hmin, fn)
+	sa, sb, sc := m3Arr(r3.Add(va, sh)), m3Arr(r3.Add(vb, sh)), m3Arr(r3.Add(vc, sh))
+	// Bounding sphere of the triangle: |p - ctr| - rad is a second cheap
+	// lower bound on the distance.
+	ctr := r3.Scale(1.0/3, r3.Add(r3.Add(va, vb), vc))
+	rad := math.Sqrt(max(m3Dist2(va, ctr), m3Dist2(vb, ctr), m3Dist2(vc, ctr)))
 	hx := j.h[0]
 	for l := lo[2]; l <= hi[2]; l++ {
 		for k := lo[1]; k <= hi[1]; k++ {
@@ -171,12 +183,19 @@ func (j *m3Job) raster(blk masks.Block, n [3]int, t int, s *m3Scratch) {
 				if pd2 >= s.d2[c] && pd2 > r2 {
 					continue
 				}
+				if dc2 := m3Dist2(p, ctr); dc2 > rad*rad {
+					lb := math.Sqrt(dc2) - rad
+					if lb2 := lb * lb; lb2 >= s.d2[c] && lb2 > r2 {
+						continue
+					}
+				}
 				q, d2, f := j.x.ClosestOnTriangle(p, t)
 				if d2 < s.d2[c] {
 					s.d2[c], s.tri[c], s.feat[c], s.q[c] = d2, int32(t), uint8(f), q
 				}
 				if d2 <= r2 {
 					j.addNear(c, t, va, fn, s)
+					s.area[c] += pcTriangleInBox(sa, sb, sc, [3]float64{p.X - hx/2, p.Y - hy/2, p.Z - hz/2}, [3]float64{p.X + hx/2, p.Y + hy/2, p.Z + hz/2})
 				}
 			}
 		}
@@ -206,112 +225,122 @@ func (j *m3Job) addNear(c, t int, a r3.Vec, fn r3.Vec, s *m3Scratch) {
 }
 
 // propagate gives every cell without a band triangle the sign of a
-// neighbour, breadth-first from the band cells in scan order. A link along
-// axis a is used only when the spacing h_a is at most the band: the far
-// cell is farther than the band from any surface, so no surface can cross
-// the link. Cells left over (a block with no band cell, or links too long)
-// get a direct query and seed another fill.
+// neighbour. Such a cell is farther than the band from any surface, so no
+// surface crosses a link of length h_a <= band that ends in it: first each
+// x row is filled forward and backward from its band cells; a row with none
+// (all far, so one sign) takes the sign of the adjacent row in y or z,
+// sweeping the rows forward and then backward; what is left (a block with
+// no band cell, or links longer than the band) gets a direct query per row.
+// Linear in the cells.
 func (j *m3Job) propagate(blk masks.Block, n [3]int, s *m3Scratch, res *m3BlockResult) {
-	nc := n[0] * n[1] * n[2]
-	q := s.queue[:0]
-	for c := range nc {
-		if s.sgn[c] != 0 {
-			q = append(q, int32(c))
+	nr := n[1] * n[2]
+	rowSign := s.rowSign[:nr]
+	for r := range nr {
+		row := s.sgn[r*n[0] : (r+1)*n[0]]
+		rc := s.conf[r*n[0] : (r+1)*n[0]]
+		rowSign[r] = 0
+		last, lastC := int8(0), float32(1)
+		for i, v := range row {
+			if v != 0 {
+				last, lastC = v, rc[i]
+			} else if last != 0 && j.h[0] <= j.band {
+				row[i], rc[i] = last, lastC
+			}
+		}
+		if last == 0 {
+			continue // no band cell in the row
+		}
+		last, lastC = 0, 1
+		for i := len(row) - 1; i >= 0; i-- {
+			if v := row[i]; v != 0 {
+				last, lastC = v, rc[i]
+			} else if last != 0 && j.h[0] <= j.band {
+				row[i], rc[i] = last, lastC
+			}
+		}
+		rowSign[r] = 2 // resolved, maybe mixed
+	}
+	fillRow := func(r int, v int8, c float32) {
+		row := s.sgn[r*n[0] : (r+1)*n[0]]
+		rc := s.conf[r*n[0] : (r+1)*n[0]]
+		for i := range row {
+			if row[i] == 0 {
+				row[i], rc[i] = v, c
+			}
+		}
+		rowSign[r] = 2
+	}
+	// from copies into empty row r the sign of cell 0 of row q, across a
+	// link along axis a.
+	from := func(r, q, a int) bool {
+		if q < 0 || q >= nr || rowSign[q] == 0 || j.h[a] > j.band || s.sgn[q*n[0]] == 0 {
+			return false
+		}
+		fillRow(r, s.sgn[q*n[0]], s.conf[q*n[0]])
+		return true
+	}
+	for pass := range 2 {
+		for rr := range nr {
+			r := rr
+			if pass == 1 {
+				r = nr - 1 - rr
+			}
+			if rowSign[r] != 0 {
+				continue
+			}
+			k, l := r%n[1], r/n[1]
+			_ = (k > 0 && from(r, r-1, 1)) || (l > 0 && from(r, r-n[1], 2)) ||
+				(k+1 < n[1] && from(r, r+1, 1)) || (l+1 < n[2] && from(r, r+n[1], 2))
 		}
 	}
-	var safe [3]bool
-	for a := range 3 {
-		safe[a] = j.h[a] <= j.band
-	}
-	stride := [3]int{1, n[0], n[0] * n[1]}
-	fill := func(q []int32) []int32 {
-		for h := 0; h < len(q); h++ {
-			c := int(q[h])
-			ijk := [3]int{c % n[0], (c / n[0]) % n[1], c / (n[0] * n[1])}
-			for a := range 3 {
-				if !safe[a] {
-					continue
-				}
-				for _, d := range [2]int{-1, 1} {
-					if v := ijk[a] + d; v >= 0 && v < n[a] {
-						e := c + d*stride[a]
-						if s.sgn[e] == 0 {
-							s.sgn[e], s.conf[e] = s.sgn[c], s.conf[c]
-							q = append(q, int32(e))
-						}
-					}
+	for r := range nr {
+		if rowSign[r] != 0 && s.sgn[r*n[0]] != 0 && (j.h[0] <= j.band || !slices.Contains(s.sgn[r*n[0]:(r+1)*n[0]], 0)) {
+			continue
+		}
+		// A row left without signs: query each unknown cell, carrying the
+		// answer along the row where the spacing allows.
+		k, l := r%n[1], r/n[1]
+		for i := range n[0] {
+			c := r*n[0] + i
+			if s.sgn[c] != 0 {
+				continue
+			}
+			if i > 0 && j.h[0] <= j.band && s.sgn[c-1] != 0 {
+				s.sgn[c], s.conf[c] = s.sgn[c-1], s.conf[c-1]
+				continue
+			}
+			s.sgn[c], s.conf[c] = j.directSign(j.centre(blk.Lo[0]+i, blk.Lo[1]+k, blk.Lo[2]+l), res)
+		}
+		rowSign[r] = 2
+		// An all-far block: one query settles it, so spread the row's sign.
+		if res.band == 0 {
+			for q := range nr {
+				if rowSign[q] == 0 {
+					fillRow(q, s.sgn[r*n[0]], s.conf[r*n[0]])
 				}
 			}
 		}
-		return q[:0]
 	}
-	q = fill(q)
-	for c := range nc {
-		if s.sgn[c] != 0 {
-			continue
-		}
-		i, k, l := blk.Lo[0]+c%n[0], blk.Lo[1]+(c/n[0])%n[1], blk.Lo[2]+c/(n[0]*n[1])
-		s.sgn[c], s.conf[c] = j.directSign(j.centre(i, k, l), res)
-		q = fill(append(q, int32(c)))
-	}
-	s.queue = q
 }
 
-// write fills the output fields of the block's cells.
+// write fills the output fields of the block's cells. The fields come
+// zeroed from masks.NewField, so only non-zero values are stored: first
+// touch of fresh memory is the dominant cost on large grids, and fluid far
+// from the surface has zero fraction, indicator, normal, density and region.
 func (j *m3Job) write(blk masks.Block, n [3]int, s *m3Scratch, res *m3BlockResult) {
 	cv := j.g.CellVolume()
 	var single masks.Surface
 	if j.single && len(j.mesh.Triangles) > 0 {
 		single = j.tagTable[m3TriSurface(j.mesh, 0)]
 	}
+	farSD := [2]float32{float32(-j.band), float32(j.band)}
+	farInd := float32(j.indicator(-j.band))
 	c := 0
 	for l := blk.Lo[2]; l < blk.Hi[2]; l++ {
 		for k := blk.Lo[1]; k < blk.Hi[1]; k++ {
 			gi := j.g.Index(blk.Lo[0], k, l)
 			for i := blk.Lo[0]; i < blk.Hi[0]; i, c, gi = i+1, c+1, gi+1 {
-				sg := float64(s.sgn[c])
 				t := s.tri[c]
-				d := j.band
-				if t >= 0 {
-					d = math.Sqrt(s.d2[c])
-				}
-				sd := sg * d
-				frac := 0.0
-				if sg < 0 {
-					frac = 1
-				}
-				area := 0.0
-				var nv r3.Vec
-				p := j.centre(i, k, l)
-				if t >= 0 {
-					nv = j.normalAt(p, s.q[c], d, sg, int(t), int(s.feat[c]))
-					if d < j.rCell {
-						frac, area = j.fraction(p, c, sd, nv, s, res, [3]int{i, k, l})
-					}
-				}
-				res.volume += frac
-				res.area += area / cv
-				j.frac[gi] = frac
-				j.sd[gi] = float32(sd)
-				j.ind[gi] = float32(j.indicator(sd))
-				j.dens[gi] = float32(area / cv)
-				reg := masks.RegionFluid
-				switch {
-				case (frac > 0 && frac < 1) || math.Abs(sd) < j.regionBand:
-					reg = masks.RegionInterface
-				case sg < 0:
-					reg = masks.RegionSolid
-				}
-				j.region[gi] = reg
-				if reg == masks.RegionInterface && t >= 0 {
-					j.nrm[3*gi], j.nrm[3*gi+1], j.nrm[3*gi+2] = float32(nv.X), float32(nv.Y), float32(nv.Z)
-				}
-				if j.conf != nil {
-					j.conf[gi] = s.conf[c]
-					if s.conf[c] < m3LowConfidence {
-						res.lowConf++
-					}
-				}
 				switch {
 				case len(j.mesh.Triangles) == 0:
 					j.tw[gi] = float32(math.NaN())
@@ -320,6 +349,55 @@ func (j *m3Job) write(blk masks.Block, n [3]int, s *m3Scratch, res *m3BlockResul
 				default:
 					j.sid[gi] = t + 1 // a triangle, replaced by its surface in tags
 				}
+				if j.conf != nil {
+					j.conf[gi] = s.conf[c]
+					if s.conf[c] < m3LowConfidence {
+						res.lowConf++
+					}
+				}
+				if t < 0 { // beyond the band: constant per side
+					if s.sgn[c] < 0 {
+						j.sd[gi] = farSD[0]
+						j.frac[gi], j.ind[gi], j.region[gi] = 1, farInd, masks.RegionSolid
+						res.volume++
+					} else {
+						j.sd[gi] = farSD[1]
+					}
+					continue
+				}
+				sg := float64(s.sgn[c])
+				d := math.Sqrt(s.d2[c])
+				sd := sg * d
+				frac := 0.0
+				if sg < 0 {
+					frac = 1
+				}
+				area := 0.0
+				p := j.centre(i, k, l)
+				nv := j.normalAt(p, s.q[c], d, sg, int(t), int(s.feat[c]))
+				if d < j.rCell {
+					frac, _ = j.fraction(p, c, sd, nv, s, res, [3]int{i, k, l})
+					area = s.area[c]
+				}
+				res.volume += frac
+				res.area += area / cv
+				j.sd[gi] = float32(sd)
+				if frac != 0 {
+					j.frac[gi] = frac
+				}
+				if ind := j.indicator(sd); ind != 0 {
+					j.ind[gi] = float32(ind)
+				}
+				if area != 0 {
+					j.dens[gi] = float32(area / cv)
+				}
+				switch {
+				case (frac > 0 && frac < 1) || math.Abs(sd) < j.regionBand:
+					j.region[gi] = masks.RegionInterface
+					j.nrm[3*gi], j.nrm[3*gi+1], j.nrm[3*gi+2] = float32(nv.X), float32(nv.Y), float32(nv.Z)
+				case sg < 0:
+					j.region[gi] = masks.RegionSolid
+				}
 			}
 		}
 	}
@@ -327,9 +405,15 @@ func (j *m3Job) write(blk masks.Block, n [3]int, s *m3Scratch, res *m3BlockResul
 
 // tag writes surface row su into cell gi.
 func (j *m3Job) tag(gi int, su masks.Surface) {
-	j.sid[gi] = int32(su.ID)
-	j.em[gi] = float32(su.Emissivity)
-	j.mat[gi] = int32(su.MaterialID)
+	if su.ID != 0 {
+		j.sid[gi] = int32(su.ID)
+	}
+	if su.Emissivity != 0 {
+		j.em[gi] = float32(su.Emissivity)
+	}
+	if su.MaterialID != 0 {
+		j.mat[gi] = int32(su.MaterialID)
+	}
 	if su.WallTemperature != nil {
 		j.tw[gi] = float32(*su.WallTemperature)
 	} else {
@@ -400,6 +484,7 @@ func (j *m3Job) fraction(p r3.Vec, c int, sd float64, nv r3.Vec, s *m3Scratch, r
 		switch j.convexity(near) {
 		case 1:
 			res.feature++
+			s.poly.onPlane = true
 			return pcClipCell(&s.poly, j.h, s.pn, s.pphi)
 		case -1:
 			res.feature++
@@ -407,6 +492,7 @@ func (j *m3Job) fraction(p r3.Vec, c int, sd float64, nv r3.Vec, s *m3Scratch, r
 				s.pn[a] = [3]float64{-s.pn[a][0], -s.pn[a][1], -s.pn[a][2]}
 				s.pphi[a] = -s.pphi[a]
 			}
+			s.poly.onPlane = false
 			v, area := pcClipCell(&s.poly, j.h, s.pn, s.pphi)
 			return 1 - v, area
 		}
@@ -465,3 +551,10 @@ func (j *m3Job) noteClose(res *m3BlockResult, cell [3]int, p r3.Vec, ta, tb int)
 		Gap:  math.Abs(pa + pb),
 	}
 }
+
+func m3Dist2(p, q r3.Vec) float64 {
+	d := r3.Sub(p, q)
+	return r3.Dot(d, d)
+}
+
+func m3Arr(p r3.Vec) [3]float64 { return [3]float64{p.X, p.Y, p.Z} }

@@ -8,6 +8,12 @@ import "math"
 // (CHECKS.md section 6, check E3).
 const pcDropRatio = 1e-8
 
+// pcSnap is the relative distance, in units of sum(m), below which a plane
+// counts as lying on a cell face: some 1e4 times the round-off of a plane
+// offset computed from coordinates of order 1e3 cells (common practice, no
+// source).
+const pcSnap = 1e-12
+
 // PlaneCutFraction3 returns the fraction, in [0, 1], of a box-shaped cell
 // with sides h (metres) that lies in the solid { x : phi + n.(x - c) < 0 },
 // where c is the cell centre, n the unit normal pointing out of the solid and
@@ -27,7 +33,9 @@ func PlaneCutFraction3(n [3]float64, phi float64, h [3]float64) float64 {
 // PlaneCutArea3 returns the area (m^2) of the plane facet inside the cell of
 // PlaneCutFraction3: the derivative of the solid volume with respect to the
 // plane offset (coarea relation; exact for a plane). It is zero when the
-// plane misses the cell and, for a zero normal, always.
+// plane misses the cell and, for a zero normal, always. A plane lying on a
+// cell face counts in the cell on its solid side (phi = -h/2) and not in the
+// one on its fluid side, so adjacent cells share such a facet exactly once.
 func PlaneCutArea3(n [3]float64, phi float64, h [3]float64) float64 {
 	m, k := pcComponents(n[:], h[:])
 	_, dv := pcFraction(m[:k], phi)
@@ -91,10 +99,22 @@ func pcFraction(m []float64, phi float64) (v, dv float64) {
 		amax += x
 	}
 	alpha := amax/2 - phi
-	if alpha <= 0 {
+	// Planes within pcSnap of the cell size from a cell face or corner are
+	// taken to lie on it, so that round-off in phi (a face meant to lie on
+	// a grid plane) neither leaves a sliver fraction of 1e-16 nor counts
+	// the facet in both cells.
+	tol := pcSnap * amax
+	if alpha <= tol {
 		return 0, 0
 	}
-	if alpha >= amax {
+	if alpha >= amax-tol {
+		// A plane exactly on a cell face (one component kept) belongs to
+		// the cell on its solid side, so that a facet on a grid plane is
+		// counted once; any other plane touching the cell at a corner or
+		// an edge has no area there.
+		if len(m) == 1 && alpha <= amax+tol {
+			return 1, 1 / m[0]
+		}
 		return 1, 0
 	}
 	// Evaluate the smaller piece and complement it, so that the symmetry

@@ -14,6 +14,9 @@ type pcPoly struct {
 	cap   [][3]float64
 	ang   []float64
 	ord   []int
+	// onPlane: a cell face lying on a clipping plane counts as surface
+	// (set for the solid polytope, not for the fluid one).
+	onPlane bool
 }
 
 type pcFace struct {
@@ -85,6 +88,20 @@ func (s *pcPoly) clip(n [3]float64, phi float64, tag int32, eps float64) bool {
 		anyIn = anyIn || d < 0
 	}
 	if !anyOut {
+		// Nothing to cut off. A face lying on the plane becomes part of
+		// the surface when asked, the counterpart of PlaneCutArea3's rule
+		// that a facet on a cell face belongs to the solid-side cell.
+		if s.onPlane {
+			for fi, f := range s.f {
+				on := true
+				for _, p := range s.v[f.start : f.start+f.n] {
+					on = on && dist(p) == 0
+				}
+				if on {
+					s.f[fi].tag = tag
+				}
+			}
+		}
 		return true
 	}
 	if !anyIn {
@@ -181,4 +198,47 @@ func pcSub(a, b [3]float64) [3]float64 { return [3]float64{a[0] - b[0], a[1] - b
 
 func pcCross(a, b [3]float64) [3]float64 {
 	return [3]float64{a[1]*b[2] - a[2]*b[1], a[2]*b[0] - a[0]*b[2], a[0]*b[1] - a[1]*b[0]}
+}
+
+// pcTriangleInBox returns the area (m^2) of the part of triangle abc inside
+// the box [lo, hi]: the triangle clipped by the six faces (Sutherland-
+// Hodgman), then the polygon's area. Summed over the cells of a grid it
+// gives the triangle's area exactly up to round-off, provided a triangle on
+// a cell face is moved off it first (see m3Job.raster). Cost: a few hundred
+// flops.
+func pcTriangleInBox(a, b, c, lo, hi [3]float64) float64 {
+	var bufA, bufB [12][3]float64
+	poly := append(bufA[:0], a, b, c)
+	out := bufB[:0]
+	for ax := range 3 {
+		for side := range 2 {
+			out = out[:0]
+			for k := range poly {
+				cur, nxt := poly[k], poly[(k+1)%len(poly)]
+				var dc, dn float64
+				if side == 0 {
+					dc, dn = lo[ax]-cur[ax], lo[ax]-nxt[ax]
+				} else {
+					dc, dn = cur[ax]-hi[ax], nxt[ax]-hi[ax]
+				}
+				if dc <= 0 {
+					out = append(out, cur)
+				}
+				if (dc < 0 && dn > 0) || (dc > 0 && dn < 0) {
+					u := dc / (dc - dn)
+					out = append(out, [3]float64{cur[0] + u*(nxt[0]-cur[0]), cur[1] + u*(nxt[1]-cur[1]), cur[2] + u*(nxt[2]-cur[2])})
+				}
+			}
+			if len(out) < 3 {
+				return 0
+			}
+			poly, out = out, poly
+		}
+	}
+	var s [3]float64
+	for k := 1; k+1 < len(poly); k++ {
+		cr := pcCross(pcSub(poly[k], poly[0]), pcSub(poly[k+1], poly[0]))
+		s[0], s[1], s[2] = s[0]+cr[0], s[1]+cr[1], s[2]+cr[2]
+	}
+	return 0.5 * math.Sqrt(s[0]*s[0]+s[1]*s[1]+s[2]*s[2])
 }
