@@ -143,3 +143,17 @@ func npyReserve(f *Field, n int) {
 		f.U8 = slices.Grow(f.U8, n)
 	}
 }
+
+// npyTruncate shortens f's slice to n elements, keeping its capacity.
+func npyTruncate(f *Field, n int) {
+	switch f.DType {
+	case Float64:
+		f.F64 = f.F64[:n]
+	case Float32:
+		f.F32 = f.F32[:n]
+	case Int32:
+		f.I32 = f.I32[:n]
+	case Uint8:
+		f.U8 = f.U8[:n]
+	}
+}

@@ -243,21 +243,31 @@ func ZarrChunksOf(g Grid, opts ZarrOptions) ([]ZarrChunk, error) {
 
 // WriteZarrChunks writes the chunk files of one array into arrayDir (the
 // array's folder in a store whose metadata WriteZarrMeta wrote with the
-// same opts). f has the full-grid layout; only the cells of the chunks
-// written are read. which selects the chunks to write (nil: all), so that
-// ranks of a parallel build can each write their own; compute, when not
-// nil, is called for each selected chunk before it is encoded, to fill the
-// chunk's block of f (a rank computes only what it writes); it is called
-// from several goroutines at once, on disjoint blocks. Chunks are
-// compressed by opts.Workers goroutines; each file is written atomically
-// and its bytes depend only on the chunk's values. The first error stops
-// the work and is returned.
-func WriteZarrChunks(arrayDir string, g Grid, f *Field, opts ZarrOptions, which func(ZarrChunk) bool, compute func(ZarrChunk) error) error {
+// same opts), so that the ranks of a parallel build can each write their
+// own chunks: which selects the chunks to write (nil: all).
+//
+// The values come from one of two places. With compute nil they are read
+// from f, a full-grid field. With compute set, f only names the array's
+// DType and Components (its slices may be empty), and compute fills block,
+// a field of just the chunk's cells (Block, clipped to the grid) laid out x
+// fastest within the block with interleaved components, so a rank never
+// holds more than a chunk per worker. compute runs on several goroutines at
+// once, each with its own block, which is reused from chunk to chunk and not
+// cleared in between.
+//
+// Chunks are compressed by opts.Workers goroutines; each file is written to
+// a temporary name and renamed, and its bytes depend only on the chunk's
+// values. The first error stops the work and is returned.
+func WriteZarrChunks(arrayDir string, g Grid, f *Field, opts ZarrOptions, which func(ZarrChunk) bool, compute func(c ZarrChunk, block *Field) error) error {
 	if err := g.Validate(); err != nil {
 		return fmt.Errorf("zarr: %w", err)
 	}
-	if err := npyCheckField(g, f); err != nil {
-		return fmt.Errorf("zarr: %w", err)
+	if compute == nil {
+		if err := npyCheckField(g, f); err != nil {
+			return fmt.Errorf("zarr: %w", err)
+		}
+	} else if f == nil || f.DType.Size() == 0 || f.Components < 1 {
+		return fmt.Errorf("zarr: the field must give a known dtype and at least one component")
 	}
 	all, err := ZarrChunksOf(g, opts)
 	if err != nil {
@@ -313,10 +323,11 @@ func WriteZarrChunks(arrayDir string, g Grid, f *Field, opts ZarrOptions, which 
 
 // zarrEncoder holds one worker's reused buffers and codec state.
 type zarrEncoder struct {
-	comp *zarrCompressor
-	raw  []byte
-	out  bytes.Buffer
-	zstd *zstd.Encoder
+	comp  *zarrCompressor
+	raw   []byte
+	out   bytes.Buffer
+	zstd  *zstd.Encoder
+	block *Field // the block handed to compute
 }
 
 func zarrNewEncoder(comp *zarrCompressor) *zarrEncoder {
@@ -354,12 +365,32 @@ func (e *zarrEncoder) encode() ([]byte, error) {
 }
 
 // zarrWriteChunk lays out one chunk in C order at full chunk size, padded
-// with zeros (the fill value), compresses it and writes its file.
-func zarrWriteChunk(arrayDir string, g Grid, f *Field, chunks []int, c ZarrChunk, enc *zarrEncoder, compute func(ZarrChunk) error) error {
+// with zeros (the fill value), compresses it and writes its file. The
+// values come from f (grid layout) or, with compute, from enc.block (block
+// layout).
+func zarrWriteChunk(arrayDir string, g Grid, f *Field, chunks []int, c ZarrChunk, enc *zarrEncoder, compute func(ZarrChunk, *Field) error) error {
+	b := c.Block
+	bx, by := b.Hi[0]-b.Lo[0], b.Hi[1]-b.Lo[1]
+	comps, size := f.Components, f.DType.Size()
+	src := f
 	if compute != nil {
-		if err := compute(c); err != nil {
+		n := bx * by * (b.Hi[2] - b.Lo[2]) * comps
+		if enc.block == nil { // room for a full chunk, the largest block
+			full := comps
+			for _, v := range chunks {
+				full *= v
+			}
+			enc.block = &Field{Name: f.Name, Unit: f.Unit, Meaning: f.Meaning, DType: f.DType, Components: comps}
+			npyGrow(enc.block, full)
+		}
+		npyTruncate(enc.block, n) // within capacity
+		if err := compute(c, enc.block); err != nil {
 			return err
 		}
+		if enc.block.Len() != n || enc.block.DType != f.DType {
+			return fmt.Errorf("zarr: compute changed the block of chunk %v to %d %s values, want %d %s", c.Index, enc.block.Len(), enc.block.DType, n, f.DType)
+		}
+		src = enc.block
 	}
 	var cs [3]int // chunk size, axis order
 	for a := range 3 {
@@ -368,7 +399,6 @@ func zarrWriteChunk(arrayDir string, g Grid, f *Field, chunks []int, c ZarrChunk
 			cs[a] = chunks[g.Dim-1-a]
 		}
 	}
-	comps, size := f.Components, f.DType.Size()
 	rowBytes := cs[0] * comps * size
 	n := cs[0] * cs[1] * cs[2] * comps * size
 	if cap(enc.raw) < n {
@@ -376,13 +406,14 @@ func zarrWriteChunk(arrayDir string, g Grid, f *Field, chunks []int, c ZarrChunk
 	}
 	enc.raw = enc.raw[:n]
 	clear(enc.raw)
-	b := c.Block
 	for k := b.Lo[2]; k < b.Hi[2]; k++ {
 		for j := b.Lo[1]; j < b.Hi[1]; j++ {
 			dst := ((k-b.Lo[2])*cs[1] + (j - b.Lo[1])) * rowBytes
 			lo := g.Index(b.Lo[0], j, k) * comps
-			hi := g.Index(b.Hi[0]-1, j, k)*comps + comps
-			npyPutElems(enc.raw[dst:dst], f, lo, hi) // appends in place: the row fits the capacity left
+			if compute != nil {
+				lo = ((k-b.Lo[2])*by + (j - b.Lo[1])) * bx * comps
+			}
+			npyPutElems(enc.raw[dst:dst], src, lo, lo+bx*comps) // appends in place: the row fits the capacity left
 		}
 	}
 	data, err := enc.encode()

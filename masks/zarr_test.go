@@ -133,7 +133,8 @@ func TestZarrDeterministic(t *testing.T) {
 }
 
 // TestWriteZarrChunksRanks: two "ranks" that each compute and write half of
-// the chunks produce the same store as one full write.
+// the chunks, holding only one block at a time, produce the same store as
+// one full write; so does a rank that writes a subset from a full field.
 func TestWriteZarrChunksRanks(t *testing.T) {
 	g := npyGrid3(6, 5, 4)
 	m := outTestMask(g)
@@ -142,11 +143,6 @@ func TestWriteZarrChunksRanks(t *testing.T) {
 	if err := WriteZarr(full, m, nil, opts); err != nil {
 		t.Fatal(err)
 	}
-	split := filepath.Join(t.TempDir(), "split.zarr")
-	if err := WriteZarrMeta(split, m, nil, opts); err != nil {
-		t.Fatal(err)
-	}
-	src := m.Field(SignedDistance)
 	chunks, err := ZarrChunksOf(g, opts)
 	if err != nil {
 		t.Fatal(err)
@@ -154,30 +150,65 @@ func TestWriteZarrChunksRanks(t *testing.T) {
 	if len(chunks) != 2*3*2 {
 		t.Fatalf("%d chunks, want 12", len(chunks))
 	}
-	for rank := range 2 {
-		f := NewField(g, src.Name, src.Unit, src.Meaning, src.DType, 1) // this rank's copy starts empty
-		computed := 0
-		which := func(c ZarrChunk) bool { return (c.Index[0]+c.Index[1]+c.Index[2])%2 == rank }
-		compute := func(c ZarrChunk) error {
-			b := c.Block
-			for k := b.Lo[2]; k < b.Hi[2]; k++ {
-				for j := b.Lo[1]; j < b.Hi[1]; j++ {
-					for i := b.Lo[0]; i < b.Hi[0]; i++ {
-						f.F32[g.Index(i, j, k)] = src.F32[g.Index(i, j, k)]
+	for _, name := range []string{SignedDistance, Normal} {
+		src := m.Field(name)
+		t.Run(name+" block compute", func(t *testing.T) {
+			split := filepath.Join(t.TempDir(), "split.zarr")
+			if err := WriteZarrMeta(split, m, nil, opts); err != nil {
+				t.Fatal(err)
+			}
+			for rank := range 2 {
+				proto := &Field{Name: src.Name, DType: src.DType, Components: src.Components} // no data
+				computed := 0
+				which := func(c ZarrChunk) bool { return (c.Index[0]+c.Index[1]+c.Index[2])%2 == rank }
+				compute := func(c ZarrChunk, block *Field) error {
+					b := c.Block
+					n := 0
+					for k := b.Lo[2]; k < b.Hi[2]; k++ {
+						for j := b.Lo[1]; j < b.Hi[1]; j++ {
+							for i := b.Lo[0]; i < b.Hi[0]; i++ {
+								for q := range src.Components {
+									block.F32[n] = src.F32[g.Index(i, j, k)*src.Components+q]
+									n++
+								}
+							}
+						}
 					}
+					if n != block.Len() {
+						return fmt.Errorf("block of %d values for %d", block.Len(), n)
+					}
+					computed++ // Workers: 1 below, so no race
+					return nil
+				}
+				if err := WriteZarrChunks(filepath.Join(split, src.Name), g, proto, ZarrOptions{Chunks: opts.Chunks, Workers: 1}, which, compute); err != nil {
+					t.Fatal(err)
+				}
+				if computed != 6 {
+					t.Errorf("rank %d computed %d chunks, want 6", rank, computed)
 				}
 			}
-			computed++ // Workers: 1 below, so no race
-			return nil
-		}
-		if err := WriteZarrChunks(filepath.Join(split, src.Name), g, f, ZarrOptions{Chunks: opts.Chunks, Workers: 1}, which, compute); err != nil {
-			t.Fatal(err)
-		}
-		if computed != 6 {
-			t.Errorf("rank %d computed %d chunks, want 6", rank, computed)
-		}
+			zarrSameFiles(t, filepath.Join(full, src.Name), filepath.Join(split, src.Name))
+		})
+		t.Run(name+" subset of a full field", func(t *testing.T) {
+			split := filepath.Join(t.TempDir(), "split.zarr")
+			if err := WriteZarrMeta(split, m, nil, opts); err != nil {
+				t.Fatal(err)
+			}
+			for rank := range 3 {
+				which := func(c ZarrChunk) bool { return (c.Index[0]*6+c.Index[1]*2+c.Index[2])%3 == rank }
+				if err := WriteZarrChunks(filepath.Join(split, src.Name), g, src, opts, which, nil); err != nil {
+					t.Fatal(err)
+				}
+			}
+			zarrSameFiles(t, filepath.Join(full, src.Name), filepath.Join(split, src.Name))
+		})
 	}
-	a, b := zarrFiles(t, filepath.Join(full, src.Name)), zarrFiles(t, filepath.Join(split, src.Name))
+}
+
+// zarrSameFiles compares two array folders file by file.
+func zarrSameFiles(t *testing.T, want, got string) {
+	t.Helper()
+	a, b := zarrFiles(t, want), zarrFiles(t, got)
 	if !slices.Equal(zarrKeys(a, ""), zarrKeys(b, "")) {
 		t.Fatalf("split store has %v, full store %v", zarrKeys(b, ""), zarrKeys(a, ""))
 	}
