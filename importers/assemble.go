@@ -58,9 +58,10 @@ type Problem struct {
 	At      r2.Vec // metres, where
 	Surface string // layer / surface name involved
 	File    string
-	Line    int    // source line of the polyline involved (Polyline.Line)
-	Where   string // Polyline.Where
-	Detail  string // e.g. "gap of 0.013 mm to the end of line 88 (layer TUBES)"
+	Line    int     // source line of the polyline involved (Polyline.Line)
+	Where   string  // Polyline.Where
+	Detail  string  // e.g. "gap of 0.013 mm to the end of line 88 (layer TUBES)"
+	Size    float64 // metres: the width of a gap or the length of an overlap; 0 for other kinds
 }
 
 // AssemblyReport says what Assemble found.
@@ -285,19 +286,21 @@ func (s *asmState) collect(ds []*Drawing) error {
 	return nil
 }
 
-// problem records a problem found at polyline ref; past asmMaxListed of a
-// kind it only counts.
-func (s *asmState) problem(kind ProblemKind, at r2.Vec, ref int, detail string) {
+// problem records a problem found at polyline ref and returns it for
+// further detail; past asmMaxListed of a kind it only counts and returns a
+// scratch Problem.
+func (s *asmState) problem(kind ProblemKind, at r2.Vec, ref int, detail string) *Problem {
 	if s.counts == nil {
 		s.counts = map[ProblemKind]int{}
 	}
 	s.counts[kind]++
 	if s.counts[kind] > asmMaxListed {
-		return
+		return &Problem{}
 	}
 	r := s.refs[ref]
 	s.problems = append(s.problems, asmProblem{ref: ref, Problem: Problem{Kind: kind, At: at,
 		Surface: r.pl.Surface, File: r.file, Line: r.pl.Line, Where: r.pl.Where, Detail: detail}})
+	return &s.problems[len(s.problems)-1].Problem
 }
 
 // sortedProblems returns the problems in file order and adds a warning for
@@ -379,7 +382,7 @@ func asmProblemError(p *Problem, rep *AssemblyReport) error {
 	case ProblemOpenEnd:
 		hint = "close the outline in CAD (join the pieces into closed polylines); if the ends are meant to meet, raise the join tolerance"
 	case ProblemGap:
-		hint = fmt.Sprintf("close the gap in CAD, or raise the join tolerance above the gap (now %s)", asmLength(rep.Tolerance))
+		hint = fmt.Sprintf("close the gap in CAD, or raise the join tolerance above the gap of %s (it is %s now)", asmLength(p.Size), asmLength(rep.Tolerance))
 	case ProblemBranch:
 		hint = "three or more pieces meet at one point: remove the stray or doubled piece in CAD so every end meets exactly one other"
 	case ProblemSelfIntersection:

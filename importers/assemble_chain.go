@@ -245,7 +245,7 @@ func (s *asmState) reportOpenEnds(ends []r2.Vec, deg, root []int32, pieces []asm
 		}
 		oref := int(pieces[open[j]/2].ref)
 		s.problem(ProblemGap, pts[i], ref, fmt.Sprintf("gap of %s to the end of %s at (%.9g, %.9g) m; join tolerance %s",
-			asmLength(dist[i]), s.describe(oref), pts[j].X, pts[j].Y, asmLength(s.tol)))
+			asmLength(dist[i]), s.describe(oref), pts[j].X, pts[j].Y, asmLength(s.tol))).Size = dist[i]
 	}
 }
 

@@ -188,12 +188,12 @@ func (s *asmState) testPair(es *asmEdgeSet, i, j int) {
 		switch {
 		case kj == ki+1: // share b == c: overlap only if the loop turns back
 			if asmSameDir(r2.Sub(a, b), r2.Sub(d, c)) {
-				s.reportPair(ProblemDuplicateEdge, es, i, j, b, "the loop runs back over itself")
+				s.reportPair(ProblemDuplicateEdge, es, i, j, b, "the loop runs back over itself").Size = min(r2.Norm(r2.Sub(a, b)), r2.Norm(r2.Sub(d, c)))
 			}
 			return
 		case ki == 0 && kj == n-1: // share a == d
 			if asmSameDir(r2.Sub(b, a), r2.Sub(c, d)) {
-				s.reportPair(ProblemDuplicateEdge, es, i, j, a, "the loop runs back over itself")
+				s.reportPair(ProblemDuplicateEdge, es, i, j, a, "the loop runs back over itself").Size = min(r2.Norm(r2.Sub(b, a)), r2.Norm(r2.Sub(c, d)))
 			}
 			return
 		}
@@ -220,7 +220,8 @@ func (s *asmState) testPair(es *asmEdgeSet, i, j int) {
 			// The middle of the overlap, on ab.
 			t := ((lo+hi)/2 - proj(a)) / (proj(b) - proj(a))
 			at := r2.Add(a, r2.Scale(t, r2.Sub(b, a)))
-			s.reportPair(ProblemDuplicateEdge, es, i, j, at, fmt.Sprintf("overlap of %s", asmLength(hi-lo)))
+			length := (hi - lo) * r2.Norm(r2.Sub(b, a)) / math.Abs(proj(b)-proj(a)) // along the line, not the axis
+			s.reportPair(ProblemDuplicateEdge, es, i, j, at, "overlap of "+asmLength(length)).Size = length
 			return
 		}
 	}
@@ -288,7 +289,7 @@ func (s *asmState) reportCross(es *asmEdgeSet, i, j, li, lj int, at r2.Vec) {
 
 // reportPair reports a problem between edges i and j, naming first the one
 // drawn earlier in the files.
-func (s *asmState) reportPair(kind ProblemKind, es *asmEdgeSet, i, j int, at r2.Vec, note string) {
+func (s *asmState) reportPair(kind ProblemKind, es *asmEdgeSet, i, j int, at r2.Vec, note string) *Problem {
 	ri := int(es.loops[es.loop[i]].ref[i-es.off[es.loop[i]]])
 	rj := int(es.loops[es.loop[j]].ref[j-es.off[es.loop[j]]])
 	if rj < ri {
@@ -302,5 +303,5 @@ func (s *asmState) reportPair(kind ProblemKind, es *asmEdgeSet, i, j int, at r2.
 	if note != "" {
 		detail += ": " + note
 	}
-	s.problem(kind, at, ri, detail)
+	return s.problem(kind, at, ri, detail)
 }

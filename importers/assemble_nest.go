@@ -63,8 +63,9 @@ func asmInside(a, b *asmLoop) bool {
 // the same kind and orients the others with solid on the left. It returns the
 // kept loops in their input order.
 //
-// Solidity follows Jordan-curve winding numbers per
-// fill group (SVG 1.1 section 11.4, fill-rule), united across groups.
+// Solidity follows the winding numbers of each fill group (SVG 1.1 section
+// 11.4, fill-rule), united across groups, in one depth-first walk of the
+// tree: O(loops) after asmParents.
 func (s *asmState) nest(loops []asmLoop) []asmLoop {
 	n := len(loops)
 	order := make([]int, n)

@@ -366,6 +366,7 @@ func TestAssembleProblems(t *testing.T) {
 		kind ProblemKind
 		at   r2.Vec
 		line int
+		size float64 // Problem.Size, metres
 	}
 	for _, tc := range []struct {
 		name   string
@@ -377,28 +378,28 @@ func TestAssembleProblems(t *testing.T) {
 		detail string // in the first problem's detail
 	}{
 		{"open end", 0, []Polyline{line(0, 0, 1, 0, "U", 5), line(1, 0, 1, 1, "U", 6), line(0, 0, 0, 1, "U", 7)},
-			[]want{{ProblemOpenEnd, asmV(1, 1), 6}, {ProblemOpenEnd, asmV(0, 1), 7}}, false, true, "meets no other end"},
+			[]want{{ProblemOpenEnd, asmV(1, 1), 6, 0}, {ProblemOpenEnd, asmV(0, 1), 7, 0}}, false, true, "meets no other end"},
 		{"gap just above tolerance", 1e-6, append(square()[:3], line(0, 1, 0, 1.5e-6, "B", 40)),
-			[]want{{ProblemGap, asmV(0, 0), 10}}, false, true, "gap of 0.0015 mm"},
+			[]want{{ProblemGap, asmV(0, 0), 10, 1.5e-6}}, false, true, "gap of 0.0015 mm"},
 		{"branch", 0, append(square(), line(0, 0, -1, -1, "STRAY", 50)),
-			[]want{{ProblemBranch, asmV(0, 0), 10}, {ProblemOpenEnd, asmV(-1, -1), 50}}, false, true, "3 ends meet"},
+			[]want{{ProblemBranch, asmV(0, 0), 10, 0}, {ProblemOpenEnd, asmV(-1, -1), 50, 0}}, false, true, "3 ends meet"},
 		{"self-intersection", 0, []Polyline{{Points: []r2.Vec{asmV(0, 0), asmV(1, 1), asmV(1, 0), asmV(0, 1)}, Closed: true, Surface: "BOW", Line: 12}},
-			[]want{{ProblemSelfIntersection, asmV(0.5, 0.5), 12}}, false, true, "crosses itself"},
+			[]want{{ProblemSelfIntersection, asmV(0.5, 0.5), 12, 0}}, false, true, "crosses itself"},
 		{"crossing loops", 0, []Polyline{asmRect(0, 0, 2, 2, false, "A"), asmRect(1, 1, 3, 3, false, "B")},
-			[]want{{ProblemCrossing, asmV(2, 1), 10}, {ProblemCrossing, asmV(1, 2), 10}}, false, true, `surface "B"`},
+			[]want{{ProblemCrossing, asmV(2, 1), 10, 0}, {ProblemCrossing, asmV(1, 2), 10, 0}}, false, true, `surface "B"`},
 		{"crossing through a vertex on an edge", 0, []Polyline{asmRect(0, 0, 2, 2, false, "A"),
 			{Points: []r2.Vec{asmV(1.5, 1.5), asmV(2, 1), asmV(3, 1.2), asmV(2.5, 3)}, Closed: true, Surface: "B"}},
-			[]want{{ProblemCrossing, asmV(2, 1), 10}, {ProblemCrossing, asmV(1.8333333333333333, 2), 10}}, false, true, ""},
+			[]want{{ProblemCrossing, asmV(2, 1), 10, 0}, {ProblemCrossing, asmV(1.8333333333333333, 2), 10, 0}}, false, true, ""},
 		{"crossing through a shared vertex", 0, []Polyline{asmRect(0, 0, 2, 2, false, "A"),
 			{Points: []r2.Vec{asmV(1, 1.5), asmV(2, 2), asmV(3, 2.5), asmV(3, 1)}, Closed: true, Surface: "B"}},
-			[]want{{ProblemCrossing, asmV(2, 2), 10}}, true, true, ""},
+			[]want{{ProblemCrossing, asmV(2, 2), 10, 0}}, true, true, ""},
 		{"partial overlap", 0, []Polyline{asmRect(0, 0, 1, 1, false, "A"), asmRect(1, 0.5, 2, 1.5, false, "B")},
-			[]want{{ProblemDuplicateEdge, asmV(1, 0.75), 10}}, true, true, "overlap of 500 mm"},
+			[]want{{ProblemDuplicateEdge, asmV(1, 0.75), 10, 0.5}}, true, true, "overlap of 500 mm"},
 		{"loop runs back", 0, []Polyline{{Points: []r2.Vec{asmV(0, 0), asmV(2, 0), asmV(1, 0), asmV(1, 1)}, Closed: true, Surface: "S", Line: 3}},
-			[]want{{ProblemDuplicateEdge, asmV(2, 0), 3}}, true, true, "runs back"},
+			[]want{{ProblemDuplicateEdge, asmV(2, 0), 3, 1}}, true, true, "runs back"},
 		{"degenerate loop", 0, []Polyline{asmRect(0, 0, 1, 1, false, "A"),
 			{Points: []r2.Vec{asmV(5, 5), asmV(6, 6), asmV(7, 7)}, Closed: true, Surface: "Z", Line: 77}},
-			[]want{{ProblemDegenerateLoop, asmV(5, 5), 77}}, false, false, "encloses no area"},
+			[]want{{ProblemDegenerateLoop, asmV(5, 5), 77, 0}}, false, false, "encloses no area"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			d := asmTestDrawing(nil, tc.pls...)
@@ -414,6 +415,8 @@ func TestAssembleProblems(t *testing.T) {
 					t.Errorf("no %s at %v within %g; problems: %+v", w.kind, w.at, at, rep.Problems)
 				case p.Line != w.line || p.File != "test.dxf" || p.Where == "":
 					t.Errorf("%s at %v names %s:%d (%q), want test.dxf:%d", w.kind, w.at, p.File, p.Line, p.Where, w.line)
+				case math.Abs(p.Size-w.size) > 1e-15:
+					t.Errorf("%s at %v has size %g m, want %g", w.kind, w.at, p.Size, w.size)
 				}
 			}
 			if !tc.others && len(rep.Problems) != len(tc.want) {
