@@ -120,8 +120,10 @@ func outCheckName(name string) error {
 // formats, so it always describes exactly what was written; its other
 // entries are kept. A mask.zarr store of an earlier run is replaced as a
 // whole; other files of earlier runs that this run does not rewrite (the
-// .npy of a field since dropped) are left in place. Field names must be usable as
-// file names (letters, digits, '_', '-', '.') and unique.
+// .npy of a field since dropped) are left in place. Field names must be
+// usable as file names (letters, digits, '_', '-', '.') and unique.
+// WriteDir uses default VTIOptions and ZarrOptions; a caller who needs
+// others writes those files with WriteVTI or WriteZarr itself.
 func WriteDir(dir string, m *Mask, man *Manifest, formats []string) error {
 	set, err := outFormats(formats)
 	if err != nil {
