@@ -119,8 +119,10 @@ const m3BlockSize = 32
 //   - normal (on interface cells): (p - q)/|p - q| oriented solid to fluid
 //     for the closest point q, or the closest feature's pseudonormal on the
 //     surface.
-//   - interface_density: the facet area in the cell (plane-cut derivative,
-//     or the clipped polygons' area) over the cell volume, 1/m.
+//   - interface_density: the area of the mesh inside the cell (each triangle
+//     clipped to the cell; a facet on a cell face counts in the cell on its
+//     solid side) over the cell volume, 1/m. Summed times the cell volume it
+//     equals the area of the mesh inside the grid to round-off.
 //   - indicator, region: as documented on masks.NewStandardFields and
 //     Options; region is interface when 0 < fraction < 1 or |d| < BandCells/2*h.
 //   - surface_id, emissivity, wall_temperature, material_id: from
