@@ -13,12 +13,17 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+	"sync"
 	"testing"
 
 	"codeberg.org/sbinet/npyio/npy"
 )
 
 var update = flag.Bool("update", false, "rewrite golden files")
+
+// npyPythonProbe caches, per module, why python3 cannot import it ("" when
+// it can), so each module costs one interpreter start per test binary.
+var npyPythonProbe sync.Map
 
 // npyNeedPython skips the test unless /usr/bin/python3 imports every module.
 func npyNeedPython(t testing.TB, modules ...string) {
@@ -27,8 +32,16 @@ func npyNeedPython(t testing.TB, modules ...string) {
 		t.Skip("reference check skipped: /usr/bin/python3 not found")
 	}
 	for _, m := range modules {
-		if out, err := exec.Command("/usr/bin/python3", "-c", "import "+m).CombinedOutput(); err != nil {
-			t.Skipf("reference check skipped: python3 cannot import %s: %s", m, bytes.TrimSpace(out))
+		why, ok := npyPythonProbe.Load(m)
+		if !ok {
+			why = ""
+			if out, err := exec.Command("/usr/bin/python3", "-c", "import "+m).CombinedOutput(); err != nil {
+				why = string(bytes.TrimSpace(out))
+			}
+			npyPythonProbe.Store(m, why)
+		}
+		if why != "" {
+			t.Skipf("reference check skipped: python3 cannot import %s: %s", m, why)
 		}
 	}
 }
