@@ -8,6 +8,8 @@ import (
 	"sync/atomic"
 	"testing"
 
+	"gonum.org/v1/gonum/spatial/r2"
+
 	"chimask/importers"
 	"chimask/masks"
 )
@@ -198,5 +200,53 @@ func TestOutlineRandomProperties(t *testing.T) {
 		if got, want := s*g.CellVolume(), o.Area(); math.Abs(got-want) > 1e-12*want {
 			t.Errorf("seed %d: area %.16g, want %.16g ± 1e-12 relative", seed, got, want)
 		}
+	}
+}
+
+func TestOutlineDegenerateGeometry(t *testing.T) {
+	// Degenerate but legal outlines: nothing panics, no field holds NaN
+	// (except wall_temperature), fractions stay in [0, 1] and add up to the
+	// area of the part inside the grid (all of it here, or the whole grid).
+	g := outlineTestGrid(16, 12, 0, 0, 0.125, 0.25)
+	for _, tc := range []struct {
+		name string
+		o    importers.Outline
+		area float64 // m^2 inside the grid
+	}{
+		{"slit: two points", importers.Outline{Loops: []importers.Loop{outlineTestLoop(0, r2.Vec{X: 0.3, Y: 0.4}, r2.Vec{X: 1.7, Y: 2.1})}}, 0},
+		{"collinear loop", importers.Outline{Loops: []importers.Loop{outlineTestLoop(0, r2.Vec{X: 0.2, Y: 0.2}, r2.Vec{X: 0.9, Y: 0.9}, r2.Vec{X: 1.5, Y: 1.5})}}, 0},
+		{"repeated points and closing point", importers.Outline{Loops: []importers.Loop{outlineTestLoop(0,
+			r2.Vec{X: 0.25, Y: 0.5}, r2.Vec{X: 0.25, Y: 0.5}, r2.Vec{X: 1.5, Y: 0.5}, r2.Vec{X: 1.5, Y: 2.5}, r2.Vec{X: 1.5, Y: 2.5}, r2.Vec{X: 0.25, Y: 0.5})}}, 1.25 * 2 / 2},
+		{"vertices on cell corners", importers.Outline{Loops: []importers.Loop{outlineTestLoop(0,
+			r2.Vec{X: 0.125, Y: 0.25}, r2.Vec{X: 1.75, Y: 0.25}, r2.Vec{X: 1.0, Y: 1.5}, r2.Vec{X: 1.75, Y: 2.75}, r2.Vec{X: 0.125, Y: 2.75})}}, 1.625*2.5 - 0.75*2.5/2},
+		{"spike folding back", importers.Outline{Loops: []importers.Loop{outlineTestLoop(0,
+			r2.Vec{X: 0.3, Y: 0.3}, r2.Vec{X: 1.2, Y: 0.3}, r2.Vec{X: 1.9, Y: 1.1}, r2.Vec{X: 1.2, Y: 0.3}, r2.Vec{X: 1.2, Y: 1.4}, r2.Vec{X: 0.3, Y: 1.4})}}, 0.9 * 1.1},
+		{"tiny triangle inside a cell", importers.Outline{Loops: []importers.Loop{outlineTestLoop(0,
+			r2.Vec{X: 0.51, Y: 0.61}, r2.Vec{X: 0.51 + 1e-9, Y: 0.61}, r2.Vec{X: 0.51, Y: 0.61 + 1e-9})}}, 0.5e-18},
+		{"square covering the grid", importers.Outline{Loops: []importers.Loop{outlineTestRect(0, -1e6, -1e6, 1e6, 1e6, true)}}, 2 * 3},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			m, err := Outline(context.Background(), &tc.o, g, Options{Workers: 2, SmoothingCells: 1})
+			if err != nil {
+				t.Fatal(err)
+			}
+			var s float64
+			for _, f := range m.Fields {
+				for k, v := range f.F32 {
+					if f.Name != masks.WallTemperature && (math.IsNaN(float64(v)) || math.IsInf(float64(v), 0)) {
+						t.Fatalf("field %s[%d] = %g", f.Name, k, v)
+					}
+				}
+			}
+			for _, v := range m.Field(masks.SolidFraction).F64 {
+				if v < 0 || v > 1 {
+					t.Fatalf("fraction %g outside [0, 1]", v)
+				}
+				s += v * g.CellVolume()
+			}
+			if math.Abs(s-tc.area) > 1e-12*max(tc.area, 1e-6) {
+				t.Errorf("solid area %.16g, want %.16g", s, tc.area)
+			}
+		})
 	}
 }
