@@ -76,7 +76,7 @@ func (e *dxfEntity) label() string {
 
 // where names the place of the entity for Polyline.Where and warnings.
 func (e *dxfEntity) where() string {
-	return fmt.Sprintf("line %d, %s", e.line, e.label())
+	return "line " + strconv.Itoa(e.line) + ", " + e.label()
 }
 
 // dxfDrawnKinds are the entity kinds that become polylines or inserts.
@@ -97,11 +97,11 @@ func dxfDecode(name, kind string, line int, pairs []dxfPair) (*dxfEntity, error)
 			break
 		}
 	}
-	if kind != "VERTEX" {
+	drawn := dxfDrawnKinds[kind]
+	if drawn && kind != "VERTEX" {
 		e.place = e.where()
 	}
-	drawn := dxfDrawnKinds[kind]
-	lab := e.label()
+	lab := e.handle // replaced by the full label before any error leaves
 	num := func(p dxfPair) (float64, error) { return dxfFloat(name, lab, p, dxfMaxCoord) }
 	var err error
 	for _, p := range pairs {
@@ -114,7 +114,7 @@ func dxfDecode(name, kind string, line int, pairs []dxfPair) (*dxfEntity, error)
 		case 67:
 			n, err := dxfInt(name, lab, p)
 			if err != nil {
-				return nil, err
+				return nil, dxfRelabel(err, e)
 			}
 			e.paper = n == 1
 			continue
@@ -133,15 +133,23 @@ func dxfDecode(name, kind string, line int, pairs []dxfPair) (*dxfEntity, error)
 			err = dxfDecodeKind(e, p, num, name, lab)
 		}
 		if err != nil {
-			return nil, err
+			return nil, dxfRelabel(err, e)
 		}
 	}
 	if drawn {
-		if err := dxfCheckEntity(e, name, lab); err != nil {
+		if err := dxfCheckEntity(e, name, e.label()); err != nil {
 			return nil, err
 		}
 	}
 	return e, nil
+}
+
+// dxfRelabel names entity e in an error built while e was being decoded.
+func dxfRelabel(err error, e *dxfEntity) error {
+	if ie, ok := err.(*InputError); ok {
+		ie.Entity = e.label()
+	}
+	return err
 }
 
 // dxfDecodeKind applies one kind-specific group to e.
