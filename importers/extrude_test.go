@@ -44,21 +44,27 @@ func TestExtrude(t *testing.T) {
 		z0, z1     float64
 		area       float64 // exact solid area of the outline, m^2
 		capSurface []string
+		degenerate int // zero-area cap facets expected
 	}{
 		// Standard geometry: a prism holds base area times height.
-		{"square", extTestOutline(square), 0, 0.5, 2, []string{"a:bottom", "a:top"}},
-		{"L-shape below zero", extTestOutline(lShape), -1, -0.25, 5, []string{"a:bottom", "a:top"}},
+		{"square", extTestOutline(square), 0, 0.5, 2, []string{"a:bottom", "a:top"}, 0},
+		{"L-shape below zero", extTestOutline(lShape), -1, -0.25, 5, []string{"a:bottom", "a:top"}, 0},
 		// CHECKS.md F1: a regular n-gon of circumradius R has area
 		// (n/2) R^2 sin(2 pi/n); the annulus is the difference of two.
 		{"annulus of 64-gons", extTestOutline(triTestPolygon(r2.Vec{}, 0.2, 64, false), triTestPolygon(r2.Vec{}, 0.1, 64, true)), 0, 0.3,
-			32 * (0.04 - 0.01) * math.Sin(2*math.Pi/64), []string{"a:bottom", "a:top"}},
+			32 * (0.04 - 0.01) * math.Sin(2*math.Pi/64), []string{"a:bottom", "a:top"}, 0},
 		{"two squares", extTestOutline(square, []r2.Vec{{X: 5, Y: 0}, {X: 6, Y: 0}, {X: 6, Y: 1}, {X: 5, Y: 1}}), 0, 1, 3,
-			[]string{"a:bottom", "a:top", "b:bottom", "b:top"}},
+			[]string{"a:bottom", "a:top", "b:bottom", "b:top"}, 0},
+		{"hole touching the outer loop at a point", extTestOutline([]r2.Vec{{X: 0, Y: 0}, {X: 2, Y: 0}, {X: 2, Y: 2}, {X: 0, Y: 2}},
+			[]r2.Vec{{X: 1, Y: 0.5}, {X: 1, Y: 1.5}, {X: 2, Y: 1}}), 0, 1, 3.5, []string{"a:bottom", "a:top"}, 2}, // the touching corner lies on an outer edge: one zero-area facet per cap keeps the caps edge-connected
+		// The bridge ray from the hole's right-most corner hits an outer corner.
+		{"bridge ray through an outer corner", extTestOutline([]r2.Vec{{X: 0, Y: 0}, {X: 2, Y: 0}, {X: 3, Y: 1}, {X: 2, Y: 2}, {X: 0, Y: 2}},
+			[]r2.Vec{{X: 1, Y: 0.5}, {X: 0.5, Y: 1}, {X: 1, Y: 1.5}, {X: 1.5, Y: 1}}), 0, 1, 4.5, []string{"a:bottom", "a:top"}, 0},
 		{"island in a hole", extTestOutline(
 			[]r2.Vec{{X: 0, Y: 0}, {X: 10, Y: 0}, {X: 10, Y: 10}, {X: 0, Y: 10}},
 			[]r2.Vec{{X: 2, Y: 2}, {X: 2, Y: 8}, {X: 8, Y: 8}, {X: 8, Y: 2}},
 			[]r2.Vec{{X: 4, Y: 4}, {X: 6, Y: 4}, {X: 6, Y: 6}, {X: 4, Y: 6}}), 0, 2, 100 - 36 + 4,
-			[]string{"a:bottom", "a:top", "c:bottom", "c:top"}},
+			[]string{"a:bottom", "a:top", "c:bottom", "c:top"}, 0},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			m, err := Extrude(tc.o, tc.z0, tc.z1)
@@ -76,9 +82,9 @@ func TestExtrude(t *testing.T) {
 				t.Errorf("Area = %.15g, want %.15g (two caps and the walls)", got, want)
 			}
 			rep := DiagnoseMesh(m, 0)
-			if !rep.Watertight || !rep.Oriented || rep.Flipped != 0 || len(rep.Degenerate) != 0 {
-				t.Errorf("DiagnoseMesh: watertight %v oriented %v flipped %d degenerate %d; want a clean closed mesh",
-					rep.Watertight, rep.Oriented, rep.Flipped, len(rep.Degenerate))
+			if !rep.Watertight || !rep.Oriented || rep.Flipped != 0 || len(rep.Degenerate) != tc.degenerate {
+				t.Errorf("DiagnoseMesh: watertight %v oriented %v flipped %d degenerate %d; want a clean closed mesh with %d degenerate",
+					rep.Watertight, rep.Oriented, rep.Flipped, len(rep.Degenerate), tc.degenerate)
 			}
 			if got := m.Surfaces[len(tc.o.Surfaces):]; !slices.Equal(got, tc.capSurface) {
 				t.Errorf("cap surfaces %q, want %q", got, tc.capSurface)

@@ -59,7 +59,7 @@ const meshDegenerateRel = 1e-12
 // welds only identical coordinates) and reports its defects: holes
 // (boundary edges), non-manifold edges, inconsistently wound facets,
 // degenerate and duplicate facets, shells, the enclosed volume and area and
-// the bounding box. A facet is degenerate when two corners weld together or
+// the bounding box. m must pass Validate. A facet is degenerate when two corners weld together or
 // |(b-a)x(c-a)| <= 1e-12 |longest edge|^2. m is not changed. An empty mesh
 // gives a report with zero counts that is not Watertight.
 //

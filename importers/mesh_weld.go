@@ -16,7 +16,9 @@ import (
 // greedy and not transitive: a chain of points each within tol of the next
 // may end up in more than one cluster.
 //
-// tol <= 0 (or NaN) merges only vertices with identical coordinates. The
+// m must pass Validate (indices in range), as meshes from ReadSTL, Extrude
+// and Revolve do. tol <= 0 (or NaN) merges only vertices with identical
+// coordinates. The
 // search uses a hash grid with cells of size 2 tol and visits the 8 cells
 // nearest each vertex: O(vertices) expected time for tol well below the
 // edge length; a tol near the mesh size degrades towards O(vertices^2).
