@@ -19,7 +19,8 @@ type OrientReport struct {
 // report of what it did. A duplicate has the same three vertices as an
 // earlier facet on the same surface, in either winding; facets that
 // coincide on different surfaces are the shared wall of two touching
-// solids and are kept. It works on the indices as they are: call Weld
+// solids and are kept. m must pass Validate. It works on the indices as
+// they are: call Weld
 // first when facets that touch do not share vertex indices (ReadSTL already
 // merges identical coordinates).
 //
