@@ -20,9 +20,8 @@ type OrientReport struct {
 // earlier facet on the same surface, in either winding; facets that
 // coincide on different surfaces are the shared wall of two touching
 // solids and are kept. m must pass Validate. It works on the indices as
-// they are: call Weld
-// first when facets that touch do not share vertex indices (ReadSTL already
-// merges identical coordinates).
+// they are: call Weld first when facets that touch do not share vertex
+// indices (ReadSTL already merges identical coordinates).
 //
 // Facets are grouped into patches joined by manifold edges (edges with
 // exactly two facets), and across a non-manifold edge by the two facets of
