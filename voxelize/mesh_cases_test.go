@@ -33,18 +33,19 @@ func TestMeshDeterministicAcrossWorkers(t *testing.T) {
 		name string
 		m    *importers.Mesh
 		opts Options
+		h    float64
 	}{
 		{"two-surface sphere, smoothed", m3TestTwoSurfaces(), Options{SmoothingCells: 1.5,
-			Surfaces: []masks.Surface{{ID: 7, Emissivity: 0.3}, {ID: 9, Emissivity: 0.8, WallTemperature: &temp, MaterialID: 2}}}},
+			Surfaces: []masks.Surface{{ID: 7, Emissivity: 0.3}, {ID: 9, Emissivity: 0.8, WallTemperature: &temp, MaterialID: 2}}}, 0.025},
 		{"open sphere (winding numbers)", func() *importers.Mesh {
 			m := m3TestIcosphere(3, 0.6, r3.Vec{})
 			m.Triangles = m.Triangles[:len(m.Triangles)-5]
 			m.TriangleSurface = m.TriangleSurface[:len(m.Triangles)]
 			return m
-		}(), Options{}},
+		}(), Options{}, 0.05},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			g := masks.Grid{Dim: 3, Origin: [3]float64{-0.8, -0.8, -0.8}, Spacing: [3]float64{0.025, 0.025, 0.025}, Cells: [3]int{70, 66, 64}}
+			g := masks.Grid{Dim: 3, Origin: [3]float64{-0.8, -0.8, -0.8}, Spacing: [3]float64{tc.h, tc.h, tc.h}, Cells: [3]int{int(1.75 / tc.h), int(1.65 / tc.h), int(1.6 / tc.h)}}
 			var ref *masks.Mask
 			var refRep *MeshReport
 			for _, w := range []int{1, 2, 3} {
