@@ -42,11 +42,31 @@ type MeshReport struct {
 	Area   float64 // total facet area in m^2
 	Lo, Hi r3.Vec  // bounding box in metres
 
+	// Surfaces has one entry per surface of the mesh, in order.
+	Surfaces []SurfaceReport
+
 	// Watertight means every edge joins exactly two facets and no facet is
 	// duplicated: the surface bounds a volume. Oriented means, in addition,
 	// that every facet is wound consistently with its neighbours and the
 	// volume is positive.
 	Watertight, Oriented bool
+}
+
+// SurfaceReport describes the facets of one surface. For a file with one
+// solid per surface (multi-solid STL) it says which solids are closed even
+// when they share walls, which makes the whole mesh non-manifold.
+type SurfaceReport struct {
+	Name      string
+	Triangles int
+	Area      float64 // m^2
+	Volume    float64 // m^3, signed as wound; meaningful when Closed
+	// BoundaryEdges counts edges used by exactly one facet of this surface
+	// (duplicates and facets with repeated corners left out).
+	BoundaryEdges int
+	// Closed means every edge of the surface's facets is used by exactly
+	// two of them, in opposite directions: the surface alone bounds a
+	// volume.
+	Closed bool
 }
 
 // meshDegenerateRel is the relative size, against the longest edge squared,
@@ -124,7 +144,68 @@ func DiagnoseMesh(m *Mesh, weldTol float64) *MeshReport {
 	rep.BoundaryEdges = defects(p.boundary)
 	rep.NonManifoldEdges = defects(p.nonManifold)
 	rep.InconsistentEdges = defects(p.sameDir)
+	rep.Surfaces = meshSurfaceReports(w, p)
 	rep.Watertight = len(m.Triangles) > 0 && len(p.boundary) == 0 && len(p.nonManifold) == 0 && len(p.duplicates) == 0
 	rep.Oriented = rep.Watertight && len(p.sameDir) == 0 && rep.Flipped == 0 && rep.InconsistentShells == 0 && rep.Volume > 0
 	return rep
+}
+
+// meshSurfaceReports sums area and volume per surface and checks each
+// surface's edges on their own.
+func meshSurfaceReports(w *Mesh, p *meshOrientPlan) []SurfaceReport {
+	out := make([]SurfaceReport, len(w.Surfaces))
+	for i, n := range w.Surfaces {
+		out[i].Name = n
+	}
+	surf := func(t int32) int {
+		if int(t) < len(w.TriangleSurface) {
+			if s := int(w.TriangleSurface[t]); s >= 0 && s < len(out) {
+				return s
+			}
+		}
+		return -1
+	}
+	for t, tr := range w.Triangles {
+		s := surf(int32(t))
+		if s < 0 {
+			continue
+		}
+		a, b, c := w.Vertices[tr[0]], w.Vertices[tr[1]], w.Vertices[tr[2]]
+		out[s].Triangles++
+		out[s].Area += meshTriangleArea(a, b, c)
+		out[s].Volume += r3.Dot(a, r3.Cross(b, c)) / 6
+	}
+	bad := make([]bool, len(out))
+	var fwd, bwd []int
+	p.edges.each(func(_ int32, uses []meshEdgeUse) {
+		if fwd == nil {
+			fwd, bwd = make([]int, len(out)), make([]int, len(out))
+		}
+		for _, u := range uses {
+			if s := surf(u.tri); s >= 0 {
+				if u.fwd {
+					fwd[s]++
+				} else {
+					bwd[s]++
+				}
+			}
+		}
+		for _, u := range uses {
+			s := surf(u.tri)
+			if s < 0 || fwd[s]+bwd[s] == 0 {
+				continue
+			}
+			if fwd[s]+bwd[s] == 1 {
+				out[s].BoundaryEdges++
+			}
+			if fwd[s] != 1 || bwd[s] != 1 {
+				bad[s] = true
+			}
+			fwd[s], bwd[s] = 0, 0
+		}
+	})
+	for s := range out {
+		out[s].Closed = out[s].Triangles > 0 && !bad[s]
+	}
+	return out
 }

@@ -267,6 +267,32 @@ func TestDiagnoseMeshDefects(t *testing.T) {
 	}
 }
 
+func TestDiagnoseMeshSurfaces(t *testing.T) {
+	// Two solids sharing the wall x = 1, the right one with a facet
+	// missing: the whole mesh is non-manifold, the left solid is closed.
+	wall := Weld(meshTestAppend(meshTestCube(), meshTestBox(r3.Vec{X: 1}, r3.Vec{X: 2, Y: 1, Z: 1}), "right"), 0)
+	wall.Triangles = wall.Triangles[:len(wall.Triangles)-1]
+	wall.TriangleSurface = wall.TriangleSurface[:len(wall.Triangles)]
+	rep := DiagnoseMesh(wall, 0)
+	want := []SurfaceReport{
+		{Name: "box", Triangles: 12, Area: 6, Volume: 1, Closed: true},
+		{Name: "right", Triangles: 11, Area: 5.5, BoundaryEdges: 3},
+	}
+	if len(rep.Surfaces) != 2 {
+		t.Fatalf("%d surface reports, want 2", len(rep.Surfaces))
+	}
+	for i, w := range want {
+		g := rep.Surfaces[i]
+		if g.Name != w.Name || g.Triangles != w.Triangles || math.Abs(g.Area-w.Area) > 1e-12 || g.BoundaryEdges != w.BoundaryEdges || g.Closed != w.Closed ||
+			w.Closed && math.Abs(g.Volume-w.Volume) > 1e-12 {
+			t.Errorf("surface %d: %+v, want %+v", i, g, w)
+		}
+	}
+	if rep.Watertight {
+		t.Errorf("whole mesh reported watertight")
+	}
+}
+
 func TestDiagnoseMeshDefectLocation(t *testing.T) {
 	m := meshTestAppend(meshTestCube(), meshTestBox(r3.Vec{X: 2}, r3.Vec{X: 3, Y: 1, Z: 1}), "lid")
 	m.Triangles = slices.Delete(m.Triangles, 14, 15) // facet {4,5,7} of the second box, surface "lid"
