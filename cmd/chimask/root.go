@@ -12,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"chimask/importers"
+	"chimask/masks"
 )
 
 // version is the tool version recorded in every manifest.
@@ -60,12 +61,18 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 func reportError(s *streams, err error) int {
 	fmt.Fprintf(s.err, "chimask: %v\n", err)
 	var ie *importers.InputError
+	var re *masks.ReadError
 	var ue *usageError
 	var cf *checkFailedError
 	switch {
 	case errors.As(err, &ie):
 		if ie.Hint != "" {
 			fmt.Fprintf(s.err, "hint: %s\n", ie.Hint)
+		}
+		return exitBadInput
+	case errors.As(err, &re):
+		if re.Hint != "" {
+			fmt.Fprintf(s.err, "hint: %s\n", re.Hint)
 		}
 		return exitBadInput
 	case errors.As(err, &ue):
