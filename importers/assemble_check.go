@@ -140,7 +140,11 @@ func (s *asmState) checkIntersections(loops []asmLoop) {
 	if len(loops) == 0 {
 		return
 	}
-	es := &asmEdgeSet{loops: loops, off: make([]int, len(loops))}
+	total := 0
+	for _, l := range loops {
+		total += len(l.pts)
+	}
+	es := &asmEdgeSet{loops: loops, off: make([]int, len(loops)), loop: make([]int32, 0, total), ends: make([][2]r2.Vec, 0, total)}
 	for li, l := range loops {
 		es.off[li] = len(es.loop)
 		for k := range l.pts {

@@ -157,7 +157,7 @@ func (s *asmState) prepare() ([]asmPiece, []asmLoop) {
 		}
 	}
 
-	var pieces []asmPiece
+	pieces := make([]asmPiece, 0, len(s.refs))
 	var loops []asmLoop
 	for ri := range s.refs {
 		r := &s.refs[ri]
