@@ -51,8 +51,12 @@ func (em *dxfEmitter) insert(e *dxfEntity, xf dxfXform, layer, via string, depth
 		for col := range e.cols {
 			off := dxfTranslate(r2.Vec{X: float64(col) * e.colSp, Y: float64(row) * e.rowSp})
 			child := place.then(off).then(shape)
+			in := inner
+			if e.rows*e.cols > 1 {
+				in = fmt.Sprintf(" in block %s inserted at line %d (row %d, column %d)", b.name, e.line, row+1, col+1) + via
+			}
 			for _, be := range b.entities {
-				if err := em.emit(be, child, layer, inner, depth+1); err != nil {
+				if err := em.emit(be, child, layer, in, depth+1); err != nil {
 					return err
 				}
 			}
