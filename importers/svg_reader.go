@@ -53,9 +53,10 @@ const (
 // coordinates are kept. Drawing.FileUnit is the unit the width states,
 // Drawing.Unit the one applied.
 //
-// Curves are flattened through github.com/tdewolff/canvas with a chord
-// error, measured in metres after every transform, of at most
-// max(opts.chordTolerance(), 1e-9 of the curve's size); see svg_flatten.go.
+// Curves (Béziers and elliptical arcs) are flattened with a proven chord
+// error, measured in metres after every transform and the unit scale, of at
+// most max(opts.chordTolerance(), 1e-9 of the curve's size); see
+// svg_flatten.go for why canvas's own flattening is not used for this.
 //
 // Broken input is an *InputError with the line of the element: malformed
 // XML, bad path data or transform syntax (naming the offending characters),
