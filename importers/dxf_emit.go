@@ -55,6 +55,7 @@ func (em *dxfEmitter) run() error {
 			return err
 		}
 	}
+	em.layerWarnings()
 	if len(em.d.Skipped) > 0 {
 		kinds := make([]string, 0, len(em.d.Skipped))
 		for k := range em.d.Skipped {
@@ -117,6 +118,10 @@ func (em *dxfEmitter) emit(e *dxfEntity, xf dxfXform, layer, via string, depth i
 	}
 	if e.paper {
 		em.d.Skipped["paper-space "+e.kind]++
+		return nil
+	}
+	if e.hidden {
+		em.d.Skipped["invisible "+e.kind]++
 		return nil
 	}
 	if !dxfDrawnKinds[e.kind] {
@@ -266,4 +271,24 @@ func (em *dxfEmitter) add(e *dxfEntity, pts []r2.Vec, closed bool, xf dxfXform, 
 	em.d.Polylines = append(em.d.Polylines, Polyline{Points: slices.Clip(out), Closed: closed, Surface: layer,
 		Group: 0, Where: where, Line: e.line})
 	return nil
+}
+
+// layerWarnings warns about layers that are off or frozen in the file but
+// hold outline geometry: CAD users hide construction lines that way, and the
+// reader still reads them, so the user should know.
+func (em *dxfEmitter) layerWarnings() {
+	used := map[string]int{}
+	for _, pl := range em.d.Polylines {
+		used[pl.Surface]++
+	}
+	for _, l := range em.f.layers {
+		if n := used[l.name]; n > 0 && (l.off || l.frozen) {
+			state := "off"
+			if l.frozen {
+				state = "frozen"
+			}
+			em.warn(fmt.Sprintf("line %d: layer %q is %s in the file but holds %d outline entities; they are read",
+				l.line, l.name, state, n))
+		}
+	}
 }

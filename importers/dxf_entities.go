@@ -38,6 +38,7 @@ type dxfEntity struct {
 	layer  string
 	line   int // line of the entity's type name
 	paper  bool
+	hidden bool   // group 60 = 1: the entity is invisible
 	ext    r3.Vec // extrusion direction (210/220/230), default +z
 	flags  int    // group 70
 
@@ -117,6 +118,13 @@ func dxfDecode(name, kind string, line int, pairs []dxfPair) (*dxfEntity, error)
 				return nil, dxfRelabel(err, e)
 			}
 			e.paper = n == 1
+			continue
+		case 60:
+			n, err := dxfInt(name, lab, p)
+			if err != nil {
+				return nil, dxfRelabel(err, e)
+			}
+			e.hidden = n == 1
 			continue
 		}
 		if !drawn {

@@ -69,6 +69,7 @@ type dxfFile struct {
 	insUnitLine int
 	entities    []*dxfEntity
 	blocks      map[string]*dxfBlock // by upper-case name; DXF block names ignore case
+	layers      []dxfLayer           // LAYER table entries, in file order
 	warnings    []string
 	dropped     int       // parse warnings beyond dxfMaxWarnings
 	pairs       []dxfPair // reused buffer for one entity's pairs
@@ -159,6 +160,8 @@ func (f *dxfFile) parse(rd *dxfReader) error {
 			f.entities = append(f.entities, ents...)
 		case "BLOCKS":
 			err = f.parseBlocks(rd, inside)
+		case "TABLES":
+			err = f.parseTables(rd, inside)
 		default:
 			err = f.skipSection(rd, inside)
 		}
@@ -177,6 +180,55 @@ func (f *dxfFile) skipSection(rd *dxfReader, inside string) error {
 		}
 		if p.code == 0 && strings.EqualFold(p.val, "ENDSEC") {
 			return nil
+		}
+	}
+}
+
+// dxfLayer is one entry of the LAYER table.
+type dxfLayer struct {
+	name        string
+	line        int
+	off, frozen bool
+}
+
+// parseTables reads the LAYER table (name, group 70 bit 1 frozen, negative
+// colour 62 = off; DXF reference, LAYER table) and skips the other tables.
+func (f *dxfFile) parseTables(rd *dxfReader, inside string) error {
+	var cur *dxfLayer
+	for {
+		p, err := f.next(rd, inside)
+		if err != nil {
+			return err
+		}
+		if p.code == 0 {
+			if cur != nil {
+				f.layers = append(f.layers, *cur)
+				cur = nil
+			}
+			switch strings.ToUpper(p.val) {
+			case "ENDSEC":
+				return nil
+			case "LAYER":
+				cur = &dxfLayer{line: p.line}
+			}
+			continue
+		}
+		if cur == nil {
+			continue
+		}
+		switch p.code {
+		case 2:
+			cur.name = dxfText(p.val)
+		case 70, 62:
+			n, err := dxfInt(f.name, "LAYER "+cur.name, p)
+			if err != nil {
+				return err
+			}
+			if p.code == 70 {
+				cur.frozen = n&1 != 0
+			} else {
+				cur.off = n < 0
+			}
 		}
 	}
 }

@@ -497,3 +497,31 @@ func TestReadDXFPolylineVertices(t *testing.T) {
 		t.Errorf("warnings %q lack the mesh one", d.Warnings)
 	}
 }
+
+func TestReadDXFLayerStates(t *testing.T) {
+	// LAYER table: group 70 bit 1 = frozen, negative colour 62 = off;
+	// group 60 = 1 makes one entity invisible (DXF reference, from memory).
+	var w dxfT
+	w.header(6).section("TABLES").p(0, "TABLE").p(2, "LAYER").p(70, 3)
+	w.p(0, "LAYER").p(2, "aux").p(70, 1).p(62, 7)
+	w.p(0, "LAYER").p(2, "hidden").p(70, 0).p(62, -3)
+	w.p(0, "LAYER").p(2, "wall").p(70, 0).p(62, 1)
+	w.p(0, "ENDTAB").endsec().section("ENTITIES")
+	w.line("aux", dxfTv(0, 0), dxfTv(1, 0))
+	w.line("hidden", dxfTv(0, 0), dxfTv(1, 0))
+	w.line("wall", dxfTv(0, 0), dxfTv(1, 0))
+	w.line("wall", dxfTv(0, 0), dxfTv(1, 0)).p(60, 1)
+	d := dxfTRead(t, w.endsec().eof().String(), ReadOptions{})
+	if len(d.Polylines) != 3 || d.Skipped["invisible LINE"] != 1 {
+		t.Errorf("%d polylines, skipped %v; want 3 and one invisible LINE", len(d.Polylines), d.Skipped)
+	}
+	all := strings.Join(d.Warnings, "\n")
+	for _, want := range []string{`layer "aux" is frozen`, `layer "hidden" is off`} {
+		if !strings.Contains(all, want) {
+			t.Errorf("warnings %q lack %q", d.Warnings, want)
+		}
+	}
+	if strings.Contains(all, `"wall" is`) {
+		t.Errorf("warnings %q mention the visible layer", d.Warnings)
+	}
+}
