@@ -177,7 +177,7 @@ func meshSurfaceReports(w *Mesh, p *meshOrientPlan) []SurfaceReport {
 	}
 	bad := make([]bool, len(out))
 	var fwd, bwd []int
-	p.edges.each(func(_ int32, uses []meshEdgeUse) {
+	p.edges.eachKept(p.skip, func(_ int32, uses []meshEdgeUse) {
 		if fwd == nil {
 			fwd, bwd = make([]int, len(out)), make([]int, len(out))
 		}

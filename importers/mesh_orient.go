@@ -67,9 +67,9 @@ func OrientConsistently(m *Mesh) (*Mesh, OrientReport) {
 type meshOrientPlan struct {
 	dup        []bool // duplicate facets, left out of everything else
 	duplicates []int
-	skip       []bool // dup or repeated corner
-	edges      *meshEdges
-	flip       []bool // facets to reverse
+	skip       []bool     // dup or repeated corner
+	edges      *meshEdges // every facet; iterate with eachKept(skip, ...)
+	flip       []bool     // facets to reverse
 	shell      []int32
 	shells     int
 	// Edge defects, as edge groups (lower vertex and the uses).
@@ -89,12 +89,12 @@ type meshEdgeGroup struct {
 func meshPlanOrientation(m *Mesh) *meshOrientPlan {
 	n, nv := len(m.Triangles), len(m.Vertices)
 	p := &meshOrientPlan{flip: make([]bool, n), shell: make([]int32, n)}
-	p.dup, p.duplicates = meshDuplicateFacets(m.Triangles, m.TriangleSurface, nv)
+	p.edges = meshBuildEdges(m.Triangles, nv, nil)
+	p.dup, p.duplicates = meshDuplicateFacets(p.edges, m.TriangleSurface, n)
 	p.skip = make([]bool, n)
 	for t, tr := range m.Triangles {
 		p.skip[t] = p.dup[t] || meshRepeatedCorner(tr)
 	}
-	p.edges = meshBuildEdges(m.Triangles, nv, p.skip)
 
 	// Neighbours across manifold edges; union-find over every shared edge.
 	nb := make([]int32, 3*n)
@@ -120,7 +120,7 @@ func meshPlanOrientation(m *Mesh) *meshOrientPlan {
 		}
 		return g
 	}
-	p.edges.each(func(lo int32, uses []meshEdgeUse) {
+	p.edges.eachKept(p.skip, func(lo int32, uses []meshEdgeUse) {
 		switch {
 		case len(uses) == 1:
 			p.boundary = append(p.boundary, group(lo, uses))

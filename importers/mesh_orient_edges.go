@@ -91,6 +91,23 @@ func (e *meshEdges) each(f func(lo int32, uses []meshEdgeUse)) {
 	}
 }
 
+// eachKept is each without the uses of facets t with skip[t]; groups left
+// empty are not visited. The slice passed to f is reused.
+func (e *meshEdges) eachKept(skip []bool, f func(lo int32, uses []meshEdgeUse)) {
+	var buf []meshEdgeUse
+	e.each(func(lo int32, uses []meshEdgeUse) {
+		buf = buf[:0]
+		for _, u := range uses {
+			if !skip[u.tri] {
+				buf = append(buf, u)
+			}
+		}
+		if len(buf) > 0 {
+			f(lo, buf)
+		}
+	})
+}
+
 // meshDuplicateFacets returns skip flags for the facets that repeat an
 // earlier facet, and their indices in increasing order. A facet repeats an
 // earlier one when it has the same three vertices, in either winding, on
@@ -100,9 +117,9 @@ func (e *meshEdges) each(f func(lo int32, uses []meshEdgeUse)) {
 // are not considered. A facet and its copy share all three edges, so they
 // meet in the group of the edge joining their two lowest corners, with the
 // same third vertex.
-func meshDuplicateFacets(tris [][3]int32, surf []int32, nv int) ([]bool, []int) {
-	e := meshBuildEdges(tris, nv, nil)
-	dup := make([]bool, len(tris))
+// e is the edge table of all n facets.
+func meshDuplicateFacets(e *meshEdges, surf []int32, n int) ([]bool, []int) {
+	dup := make([]bool, n)
 	surface := func(t int32) int32 {
 		if int(t) < len(surf) {
 			return surf[t]
