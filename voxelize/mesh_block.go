@@ -149,6 +149,10 @@ func (j *m3Job) raster(blk masks.Block, n [3]int, t int, s *m3Scratch) {
 	// solid side.
 	sh := r3.Scale(-1e-9*j.hmin, fn)
 	sa, sb, sc := m3Arr(r3.Add(va, sh)), m3Arr(r3.Add(vb, sh)), m3Arr(r3.Add(vc, sh))
+	var tlo, thi [3]float64
+	for a := range 3 {
+		tlo[a], thi[a] = min(sa[a], sb[a], sc[a]), max(sa[a], sb[a], sc[a])
+	}
 	// Bounding sphere of the triangle: |p - ctr| - rad is a second cheap
 	// lower bound on the distance.
 	ctr := r3.Scale(1.0/3, r3.Add(r3.Add(va, vb), vc))
@@ -195,7 +199,11 @@ func (j *m3Job) raster(blk masks.Block, n [3]int, t int, s *m3Scratch) {
 				}
 				if d2 <= r2 {
 					j.addNear(c, t, va, fn, s)
-					s.area[c] += pcTriangleInBox(sa, sb, sc, [3]float64{p.X - hx/2, p.Y - hy/2, p.Z - hz/2}, [3]float64{p.X + hx/2, p.Y + hy/2, p.Z + hz/2})
+					clo := [3]float64{p.X - hx/2, p.Y - hy/2, p.Z - hz/2}
+					chi := [3]float64{p.X + hx/2, p.Y + hy/2, p.Z + hz/2}
+					if tlo[0] <= chi[0] && tlo[1] <= chi[1] && tlo[2] <= chi[2] && thi[0] >= clo[0] && thi[1] >= clo[1] && thi[2] >= clo[2] {
+						s.area[c] += pcTriangleInBox(sa, sb, sc, clo, chi)
+					}
 				}
 			}
 		}
