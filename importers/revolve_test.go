@@ -53,6 +53,9 @@ func TestRevolveExactPolygonalVolume(t *testing.T) {
 		{"solid cylinder", revTestRectangle(0, 1, 0, 2), 32},
 		{"sphere", revTestSemicircle(1, 24), 48},
 		{"torus", extTestOutline(triTestPolygon(r2.Vec{X: 2}, 0.5, 20, false)), 40},
+		{"ring with a toroidal cavity", extTestOutline(
+			[]r2.Vec{{X: 1, Y: 0}, {X: 3, Y: 0}, {X: 3, Y: 2}, {X: 1, Y: 2}},
+			[]r2.Vec{{X: 1.5, Y: 0.5}, {X: 1.5, Y: 1.5}, {X: 2.5, Y: 1.5}, {X: 2.5, Y: 0.5}}), 24},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			m, err := Revolve(tc.o, tc.segments)
@@ -68,9 +71,13 @@ func TestRevolveExactPolygonalVolume(t *testing.T) {
 				t.Errorf("Volume = %.15g, want %.15g", got, want)
 			}
 			rep := DiagnoseMesh(m, 0)
-			if !rep.Watertight || !rep.Oriented || len(rep.Degenerate) != 0 || rep.Shells != 1 {
-				t.Errorf("DiagnoseMesh: watertight %v oriented %v degenerate %d shells %d; want a clean closed shell",
+			if !rep.Watertight || !rep.Oriented || len(rep.Degenerate) != 0 || rep.Shells != len(tc.o.Loops) {
+				t.Errorf("DiagnoseMesh: watertight %v oriented %v degenerate %d shells %d; want clean closed shells, one per loop",
 					rep.Watertight, rep.Oriented, len(rep.Degenerate), rep.Shells)
+			}
+			// Property: the winding is already right, cavity included.
+			if _, orep := OrientConsistently(m); orep.Flipped != 0 {
+				t.Errorf("OrientConsistently flipped %d facets of a revolved solid, want 0", orep.Flipped)
 			}
 		})
 	}
