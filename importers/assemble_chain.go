@@ -278,9 +278,10 @@ func (s *asmState) dropDegenerate(loops []asmLoop) []asmLoop {
 		n := len(l.pts)
 		var a2 float64
 		l.lo, l.hi = l.pts[0], l.pts[0]
+		o := l.pts[0] // shoelace about a vertex: no cancellation far from the origin
 		for i := range n {
 			p, q := l.pts[i], l.pts[(i+1)%n]
-			a2 += p.X*q.Y - q.X*p.Y
+			a2 += (p.X-o.X)*(q.Y-o.Y) - (q.X-o.X)*(p.Y-o.Y)
 			l.lo.X, l.lo.Y = min(l.lo.X, p.X), min(l.lo.Y, p.Y)
 			l.hi.X, l.hi.Y = max(l.hi.X, p.X), max(l.hi.Y, p.Y)
 		}

@@ -53,14 +53,17 @@ func asmNewGrid(pts []r2.Vec, reach, maxAbs float64) *asmGrid {
 
 // cell returns the cell of p and the side of the cell's centre p is on in
 // x and y (-1 or +1; 0 when p is too close to the centre to tell, so that
-// both neighbours must be searched).
+// both neighbours must be searched). "Too close" allows for the rounding of
+// p/h, which grows with the coordinate: far from the origin, with a
+// tolerance near the coordinates' resolution, every query searches 3x3.
 func (g *asmGrid) cell(p r2.Vec) (c asmCell, sx, sy int64) {
 	side := func(v float64) (int64, int64) {
 		f := math.Floor(v)
+		margin := 1e-6 + 8e-16*math.Abs(v) // a few ulps of v
 		switch fr := v - f; {
-		case fr < 0.5-1e-6:
+		case fr < 0.5-margin:
 			return int64(f), -1
-		case fr > 0.5+1e-6:
+		case fr > 0.5+margin:
 			return int64(f), 1
 		}
 		return int64(f), 0

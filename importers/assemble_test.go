@@ -768,3 +768,40 @@ func BenchmarkAssemblePerforated(b *testing.B) {
 		})
 	}
 }
+
+// TestAssembleFarFromOrigin chains a LINE soup placed a million metres from
+// the origin (site coordinates), where the default tolerance is close to the
+// coordinates' resolution, with the ends perturbed by up to half of it.
+func TestAssembleFarFromOrigin(t *testing.T) {
+	const x0, y0 = 1.234567e6, -7.654321e5
+	soup := asmSoup(asmCircle(x0, y0, 3, 200, false, "W"), asmCircle(x0, y0, 2, 150, false, "W"))
+	const tol = 2e-9 // about 8 ulps of the coordinates
+	rng := rand.New(rand.NewPCG(5, 5))
+	for i := range soup {
+		for k := range soup[i].Points {
+			soup[i].Points[k].X += (rng.Float64() - 0.5) * tol / 2
+			soup[i].Points[k].Y += (rng.Float64() - 0.5) * tol / 2
+		}
+	}
+	o, rep, err := Assemble([]*Drawing{asmTestDrawing(nil, soup...)}, AssembleOptions{Tolerance: tol})
+	if err != nil {
+		t.Fatalf("Assemble: %v", err)
+	}
+	if rep.Loops != 2 || rep.Solids != 1 || rep.Holes != 1 {
+		t.Errorf("loops %d solids %d holes %d, want 2, 1, 1", rep.Loops, rep.Solids, rep.Holes)
+	}
+	// CHECKS.md F1, two n-gons, with the shoelace sum taken about the
+	// centre (Outline.Area sums about the origin and loses 1e-5 here).
+	var got float64
+	for _, l := range o.Loops {
+		n := len(l.Points)
+		for i := range n {
+			p, q := r2.Sub(l.Points[i], asmV(x0, y0)), r2.Sub(l.Points[(i+1)%n], asmV(x0, y0))
+			got += (p.X*q.Y - q.X*p.Y) / 2
+		}
+	}
+	if want := asmNgonArea(3, 200) - asmNgonArea(2, 150); math.Abs(got-want) > 1e-6*want {
+		t.Errorf("area = %.12g, want %.12g", got, want)
+	}
+	asmCheckOrientation(t, o)
+}
