@@ -175,7 +175,7 @@ func radDiskSlab(r, th, zc, faceSign float64, id, back int32) radShape {
 		if q[0] > 0 || q[1] > 0 {
 			a, b := max(q[0], 0), max(q[1], 0)
 			d = math.Hypot(a, b)
-			n = [3]float64{(a*u[0]) / d, (a*u[1]) / d, b * sz / d}
+			n = [3]float64{(a * u[0]) / d, (a * u[1]) / d, b * sz / d}
 		} else {
 			d = max(q[0], q[1])
 			if q[0] > q[1] {

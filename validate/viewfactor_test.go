@@ -90,7 +90,24 @@ func radFacetMeasure(dim int, d float64, n, h [3]float64) float64 {
 // plane-cut estimate of the solid fraction (by 4^dim sub-samples of the
 // plane, enough for a field this estimator does not read), and the region.
 func radBuildMask(g masks.Grid, shape radShape, names []string) *masks.Mask {
-	fs := masks.NewStandardFields(g)
+	return radBuildMaskFields(g, shape, names, true)
+}
+
+// radBuildMaskFields is radBuildMask; without fraction it allocates only
+// the fields the view factors read and skips the solid fraction, for the
+// 256^3 benchmark.
+func radBuildMaskFields(g masks.Grid, shape radShape, names []string, fraction bool) *masks.Mask {
+	var fs []*masks.Field
+	if fraction {
+		fs = masks.NewStandardFields(g)
+	} else {
+		for _, f := range masks.NewStandardFields(masks.Grid{Dim: g.Dim, Spacing: g.Spacing, Cells: [3]int{1, 1, 1}}) {
+			switch f.Name {
+			case masks.SignedDistance, masks.Normal, masks.InterfaceDensity, masks.SurfaceID, masks.Region:
+				fs = append(fs, masks.NewField(g, f.Name, f.Unit, f.Meaning, f.DType, f.Components))
+			}
+		}
+	}
 	m := &masks.Mask{Grid: g, Fields: fs}
 	for i, name := range names {
 		m.Surfaces = append(m.Surfaces, masks.Surface{ID: i + 1, Name: name, Emissivity: 1})
@@ -112,24 +129,9 @@ func radBuildMask(g masks.Grid, shape radShape, names []string) *masks.Mask {
 				// A facet lying on a cell face belongs to the fluid-side cell:
 				// move the plane 1e-9 h towards the fluid, far above rounding.
 				facet := radFacetMeasure(g.Dim, d-1e-9*g.MinSpacing(), n, h)
-				// Solid fraction of the plane cut, by sub-sampling.
-				const sub = 4
-				in, tot := 0, 0
-				for a := range sub {
-					for b := range sub {
-						for e := range max(1, (g.Dim-2)*sub) {
-							x := [3]float64{((float64(a)+0.5)/sub - 0.5) * h[0], ((float64(b)+0.5)/sub - 0.5) * h[1], 0}
-							if g.Dim == 3 {
-								x[2] = ((float64(e)+0.5)/sub - 0.5) * h[2]
-							}
-							if d+n[0]*x[0]+n[1]*x[1]+n[2]*x[2] < 0 {
-								in++
-							}
-							tot++
-						}
-					}
+				if sf != nil {
+					sf.F64[c] = radPlaneFraction(g.Dim, d, n, h)
 				}
-				sf.F64[c] = float64(in) / float64(tot)
 				switch {
 				case facet > 0:
 					dn.F32[c] = float32(facet / g.CellVolume())
@@ -146,6 +148,28 @@ func radBuildMask(g masks.Grid, shape radShape, names []string) *masks.Mask {
 		}
 	}
 	return m
+}
+
+// radPlaneFraction estimates the solid fraction of the cell of size h cut
+// by the plane d + n.x = 0 (x from the centre) on 4^dim sub-cell centres.
+func radPlaneFraction(dim int, d float64, n, h [3]float64) float64 {
+	const sub = 4
+	in, tot := 0, 0
+	for a := range sub {
+		for b := range sub {
+			for e := range max(1, (dim-2)*sub) {
+				x := [3]float64{((float64(a)+0.5)/sub - 0.5) * h[0], ((float64(b)+0.5)/sub - 0.5) * h[1], 0}
+				if dim == 3 {
+					x[2] = ((float64(e)+0.5)/sub - 0.5) * h[2]
+				}
+				if d+n[0]*x[0]+n[1]*x[1]+n[2]*x[2] < 0 {
+					in++
+				}
+				tot++
+			}
+		}
+	}
+	return float64(in) / float64(tot)
 }
 
 // radGrid2 returns a 2D grid of square cells of size h covering [lo, hi].
