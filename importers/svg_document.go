@@ -102,6 +102,7 @@ func svgReadDocument(r io.Reader, file string, maxDepth int) (*svgDocument, erro
 	// HTML entities such as &nbsp; appear in text written by hand; they are
 	// harmless, so they are accepted rather than rejected as undefined.
 	dec.Entity = maps.Clone(xml.HTMLEntity)
+	dec.CharsetReader = svgCharsetReader
 	doc := &svgDocument{ids: map[string]*svgNode{}}
 	var stack []*svgNode
 	fail := func(line int, entity, what, hint string) error {
@@ -201,4 +202,48 @@ func svgDeclareEntities(m map[string]string, dir string) {
 			m[name] = v[1 : 1+k]
 		}
 	}
+}
+
+// svgCharsetReader decodes the single-byte encodings older exporters
+// declare: ISO-8859-1 and US-ASCII map each byte to the code point of the
+// same value. windows-1252 differs only in 0x80-0x9F, which appear in text
+// (skipped) rather than in geometry, so it is read the same way.
+func svgCharsetReader(charset string, r io.Reader) (io.Reader, error) {
+	switch strings.ToLower(charset) {
+	case "iso-8859-1", "iso8859-1", "latin1", "latin-1", "us-ascii", "ascii", "windows-1252", "cp1252":
+		return &svgLatin1Reader{r: bufio.NewReader(r)}, nil
+	}
+	return nil, fmt.Errorf("encoding %q is not supported (UTF-8, ISO-8859-1 and US-ASCII are)", svgShort(charset))
+}
+
+// svgLatin1Reader turns ISO-8859-1 bytes into UTF-8.
+type svgLatin1Reader struct {
+	r       *bufio.Reader
+	pending []byte
+}
+
+func (l *svgLatin1Reader) Read(p []byte) (int, error) {
+	n := 0
+	for n < len(p) {
+		if len(l.pending) > 0 {
+			c := copy(p[n:], l.pending)
+			l.pending = l.pending[c:]
+			n += c
+			continue
+		}
+		b, err := l.r.ReadByte()
+		if err != nil {
+			if n > 0 {
+				return n, nil
+			}
+			return 0, err
+		}
+		if b < 0x80 {
+			p[n] = b
+			n++
+			continue
+		}
+		l.pending = append(l.pending[:0], 0xC0|b>>6, 0x80|b&0x3F)
+	}
+	return n, nil
 }

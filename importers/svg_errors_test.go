@@ -71,6 +71,7 @@ func TestReadSVGMalformed(t *testing.T) {
 		{"bad viewBox", `<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 0 10"><rect width="1" height="1"/></svg>`, ReadOptions{}, 1, []string{"viewBox", "<= 0"}},
 		{"stretching viewBox", `<svg xmlns="http://www.w3.org/2000/svg" width="20mm" height="10mm" viewBox="0 0 10 10" preserveAspectRatio="none"><rect width="1" height="1"/></svg>`, ReadOptions{}, 1, []string{"stretches"}},
 		{"unknown option unit", svgMM(`<rect width="1" height="1"/>`), ReadOptions{Unit: "furlong"}, 0, []string{"unknown length unit"}},
+		{"unknown encoding", "<?xml version=\"1.0\" encoding=\"EBCDIC-US\"?>\n<svg xmlns=\"http://www.w3.org/2000/svg\"/>", ReadOptions{}, 1, []string{"EBCDIC-US", "not supported"}},
 		{"tiny tolerance", svgMM(strings.Repeat(`<circle r="1e12"/>`, 100)), ReadOptions{ChordTolerance: 1e-12}, 2, []string{"more than", "points"}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {

@@ -42,12 +42,21 @@ type svgBudget struct {
 // errSVGBudget is returned when the point budget is spent.
 var errSVGBudget = errors.New("point budget exceeded")
 
-// take reserves n points.
-func (b *svgBudget) take(n float64) error {
+// take spends one point.
+func (b *svgBudget) take() error {
+	if b.used >= b.max {
+		return errSVGBudget
+	}
+	b.used++
+	return nil
+}
+
+// fits reports whether n more points would stay within the budget; a curve
+// asks before it makes its points, so that one huge curve fails at once.
+func (b *svgBudget) fits(n float64) error {
 	if n > float64(b.max-b.used) || math.IsNaN(n) {
 		return errSVGBudget
 	}
-	b.used += int(n)
 	return nil
 }
 
@@ -84,7 +93,7 @@ func svgFlatten(segs []svgSegment, m svgMatrix, tol float64, budget *svgBudget) 
 		if n := len(cur.pts); n > 0 && cur.pts[n-1] == p {
 			return nil
 		}
-		if err := budget.take(1); err != nil {
+		if err := budget.take(); err != nil {
 			return err
 		}
 		cur.pts = append(cur.pts, p)
@@ -183,7 +192,7 @@ func svgFlattenBezier(ctrl []r2.Vec, tol float64, budget *svgBudget, add func(r2
 	}
 	deg := len(ctrl) - 1
 	n := math.Ceil(math.Sqrt(float64(deg*(deg-1)) / 8 * svgSecondDiff(ctrl) / tol))
-	if err := budget.take(n); err != nil {
+	if err := budget.fits(n); err != nil {
 		return coarse, err
 	}
 	// Power basis about the start point: B(t) = o + t (c1 + t (c2 + t c3)).
@@ -267,7 +276,7 @@ func svgFlattenArc(from r2.Vec, s svgSegment, m svgMatrix, tol float64, budget *
 	// The steepest step, where the mapped ellipse bends most, has
 	// 1 - cos(h/2) = tol/a, so h > 2 sqrt(2 tol/a) and the arc needs fewer
 	// than |dt| / h + 1 chords.
-	if err := budget.take(math.Abs(dt)/(2*math.Sqrt(2*tol/a)) + 2); err != nil {
+	if err := budget.fits(math.Abs(dt)/(2*math.Sqrt(2*tol/a)) + 2); err != nil {
 		return warn, err
 	}
 	at := func(t float64) r2.Vec {

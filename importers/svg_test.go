@@ -379,3 +379,11 @@ func TestReadSVGSkippedAndEditors(t *testing.T) {
 		t.Errorf("path at line %d named %q, want line 11 named edge", p.Line, p.Surface)
 	}
 }
+
+func TestReadSVGLatin1(t *testing.T) {
+	// ISO-8859-1 byte 0xE9 is U+00E9 (ISO/IEC 8859-1 code table).
+	src := "<?xml version=\"1.0\" encoding=\"ISO-8859-1\"?>\n<svg xmlns=\"http://www.w3.org/2000/svg\"><rect id=\"paroi-\xe9\" width=\"1\" height=\"1\"/></svg>"
+	if p := svgOnly(t, svgRead(t, src, ReadOptions{})); p.Surface != "paroi-\u00e9" {
+		t.Errorf("surface = %q, want %q", p.Surface, "paroi-\u00e9")
+	}
+}
