@@ -73,7 +73,9 @@ func (g *o2Geom) voxelize(ctx context.Context, out o2Outputs, opts Options) erro
 		g.coverBand(b, &cover, out.frac, &sc.cover)
 		g.nearestBand(b, &near, labels, sc, p.r)
 		g.finishBand(b, &near, labels, sc, out, p)
-		g.seedCoarse(b, labels, coarse)
+		if len(g.tags) > 1 { // with one surface there is nothing to propagate
+			g.seedCoarse(b, labels, coarse)
+		}
 	})
 	if err != nil {
 		return err
