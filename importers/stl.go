@@ -52,7 +52,9 @@ const stlMaxMagnitude = 1e12
 // The format is told from the content, not the name: a file of exactly
 // 84 + 50n bytes, n being the little-endian count at byte 80, is binary
 // even when its header begins with "solid" (many exporters write that);
-// otherwise a file that begins with "solid" is read as ASCII. ASCII
+// otherwise a file that begins with "solid" is read as ASCII. (Text bytes
+// at 80..83 read as a count of at least 0x09090909, 151 million, so below
+// that cap a text file is never taken for binary.) ASCII
 // keywords are case-insensitive, any run of spaces, tabs or line breaks
 // (LF, CRLF or CR) separates tokens, numbers may use exponents, and
 // `endsolid` may omit the name. Per-facet normals are ignored (the winding
@@ -60,6 +62,12 @@ const stlMaxMagnitude = 1e12
 // bytes. Vertices with identical coordinates become one vertex, so facets
 // that touch share indices; nothing else is merged or dropped, so
 // degenerate, flipped or duplicate facets survive for DiagnoseMesh.
+//
+// Surfaces: a file with one solid gets one surface, named opts.Surface,
+// else the solid's name, else the file's base name without extension.
+// In a multi-solid file each distinct solid name is a surface and the k-th
+// solid, if unnamed, becomes "<base>-solid<k>" (base: opts.Surface or the
+// file's base name). TriangleSurface follows the solid of each facet.
 //
 // Every problem is an *InputError: ASCII errors give the 1-based line,
 // binary errors the byte offset. A binary count is checked against the
