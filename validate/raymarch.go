@@ -166,6 +166,9 @@ func radPrepareMask(m *masks.Mask) (*radMaskScene, *ViewFactors, error) {
 			row := g.Index(0, j, k)
 			ob := sc.nb[0] * ((j >> radBlockShift) + sc.nb[1]*(k>>radBlockShift))
 			for i, d := range sdf[row : row+g.Cells[0]] {
+				if d != d {
+					return nil, nil, fmt.Errorf("mask field %s is NaN at cell (%d, %d, %d); a ray could not tell solid from fluid there", masks.SignedDistance, i, j, k)
+				}
 				if float64(d) <= sc.near {
 					sc.occ[ob+i>>radBlockShift] = true
 					c := row + i

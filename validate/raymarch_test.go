@@ -238,7 +238,7 @@ func radCylinderCavity(r, l float64) radShape {
 
 func TestMaskViewFactors3DConvergence(t *testing.T) {
 	const th = 0.2 // slab thickness: 2-4 cells at the sizes below (CHECKS.md R1)
-	hs := []float64{0.1, 0.05}
+	hs := []float64{0.1, 0.05, 0.035}
 	back := func(id int32, a int, s float64) func(int, float64) int32 {
 		return func(aa int, ss float64) int32 {
 			if aa == a && ss == s {

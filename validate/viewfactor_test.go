@@ -346,6 +346,12 @@ func TestMaskViewFactorsMissingFields(t *testing.T) {
 			}
 		})
 	}
+	// A NaN distance is refused: the ray could not classify the cell.
+	bad := radBuildMask(g, radAnnulus(2, 0.2, 0.45), nil)
+	bad.Field(masks.SignedDistance).F32[7] = float32(math.NaN())
+	if _, err := MaskViewFactors(context.Background(), bad, RayOptions{RaysPerSurface: 10}); err == nil {
+		t.Errorf("MaskViewFactors(NaN distance) = nil error, want an error")
+	}
 	// Without a surfaces table the ids come from the field.
 	v, err := MaskViewFactors(context.Background(), m, RayOptions{RaysPerSurface: 1000})
 	if err != nil {
