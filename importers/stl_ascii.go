@@ -99,6 +99,40 @@ func (lx *stlLexer) rest() string {
 	return s
 }
 
+// name returns the solid name after "solid": the rest of the line up to a
+// "facet" or "endsolid" keyword, which stays to be read (a file written on
+// one line), trimmed.
+func (lx *stlLexer) name() string {
+	l := lx.line
+	for i := 0; i < len(l); {
+		for i < len(l) && stlSpace(l[i]) {
+			i++
+		}
+		j := i
+		for j < len(l) && !stlSpace(l[j]) {
+			j++
+		}
+		if tok := l[i:j]; stlIs(tok, "facet") || stlIs(tok, "endsolid") {
+			lx.line = l[i:]
+			return strings.TrimSpace(string(l[:i]))
+		}
+		i = j
+	}
+	return lx.rest()
+}
+
+// endName skips the name after "endsolid": exactly the solid's name when
+// the line goes on with it (then whatever follows stays to be read), else
+// the rest of the line, since many writers put a different name or none.
+func (lx *stlLexer) endName(name string) {
+	l := bytes.TrimLeft(lx.line, " \t\v\f")
+	if name != "" && bytes.HasPrefix(l, []byte(name)) && (len(l) == len(name) || stlSpace(l[len(name)])) {
+		lx.line = l[len(name):]
+		return
+	}
+	lx.rest()
+}
+
 // fail sets the sticky error to a syntax error at the current line.
 func (lx *stlLexer) fail(entity, what, hint string) {
 	if entity == "" && lx.facet > 0 {
@@ -179,7 +213,7 @@ func (b *stlBuilder) ascii(r io.Reader, opts STLOptions) (*Mesh, error) {
 			return nil, lx.err
 		}
 		solidLine := lx.lineN
-		b.names = append(b.names, lx.rest())
+		b.names = append(b.names, lx.name())
 		solid := int32(len(b.names) - 1)
 		solidName := "solid " + strconv.Quote(b.names[solid])
 		for closed := false; !closed; {
@@ -192,7 +226,7 @@ func (b *stlBuilder) ascii(r io.Reader, opts STLOptions) (*Mesh, error) {
 					"the file is truncated; export it again")
 				return nil, lx.err
 			case stlIs(tok, "endsolid"):
-				lx.rest()
+				lx.endName(b.names[solid])
 				closed = true
 			case stlIs(tok, "facet"):
 				if err := b.asciiFacet(lx, solid); err != nil {

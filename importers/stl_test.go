@@ -87,6 +87,8 @@ func TestReadSTL(t *testing.T) {
 		{"CRLF, tabs, capitals, bare endsolid", []byte(odd), STLOptions{Unit: "m"}, 8, 12, []string{"box"}, 1},
 		{"CR line ends", []byte(stlTestASCII(cube, 1, "\r")), STLOptions{Unit: "m"}, 8, 12, []string{"box"}, 1},
 		{"exponents", []byte(exponents), STLOptions{Unit: "m"}, 8, 12, []string{"box"}, 1},
+		{"all on one line", []byte(strings.ReplaceAll(stlTestASCII(cube, 1, "\n"), "\n", " ")), STLOptions{Unit: "m"}, 8, 12, []string{"box"}, 1},
+		{"multi-solid on one line", []byte(strings.ReplaceAll(stlTestASCII(twoBoxes, 1, "\n"), "\n", " ")), STLOptions{Unit: "m"}, 16, 24, []string{"hot wall", "lid"}, 2},
 		{"no final newline", []byte(strings.TrimSuffix(stlTestASCII(cube, 1, "\n"), "\n")), STLOptions{Unit: "m"}, 8, 12, []string{"box"}, 1},
 		{"multi-solid", []byte(stlTestASCII(twoBoxes, 1, "\n")), STLOptions{Unit: "m"}, 16, 24, []string{"hot wall", "lid"}, 2},
 		{"unnamed solids get distinct names", []byte(stlTestASCII(fourBoxes, 1, "\n", "", "lid", "", "lid")), STLOptions{Unit: "m"}, 32, 48, []string{"cube-solid1", "lid", "cube-solid3"}, 4},
