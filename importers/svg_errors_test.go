@@ -58,6 +58,7 @@ func TestReadSVGMalformed(t *testing.T) {
 		{"odd points", svgMM(`<polygon points="0 0 1 1 2"/>`), ReadOptions{}, 2, []string{"odd count"}},
 		{"font unit", svgMM(`<circle r="2em"/>`), ReadOptions{}, 2, []string{"font-relative"}},
 		{"deep nesting", svgMM(deep), ReadOptions{}, 2, []string{"nested deeper than 64 levels"}},
+		{"deep nesting, raised limit", svgMM(deep), ReadOptions{MaxDepth: 1_000_000}, 2, []string{"nested deeper than 10000 levels"}},
 		{"use chain too deep", svgMM(chain.String()), ReadOptions{MaxDepth: 8}, 2, []string{"nest deeper than 8 levels"}},
 		{"use of itself", svgMM(`<use id="me" href="#me"/>`), ReadOptions{}, 2, []string{"reference cycle"}},
 		{"use of its group", svgMM("<g id=\"a\">\n<use href=\"#a\"/></g>"), ReadOptions{}, 3, []string{"reference cycle", `"#a"`}},

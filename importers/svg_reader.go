@@ -85,6 +85,9 @@ func ReadSVG(r io.Reader, name string, opts ReadOptions) (*Drawing, error) {
 	if err != nil {
 		return nil, err
 	}
+	if v, ok := svgProperty(doc.root, "fill-rule"); ok && v == "evenodd" {
+		root.fill = EvenOdd
+	}
 	rr.active[doc.root] = true
 	for _, k := range doc.root.kids {
 		if err := rr.node(k, root); err != nil {
@@ -221,6 +224,9 @@ func (rr *svgRender) rootContext(root *svgNode, opts ReadOptions) (svgContext, e
 	}
 	if vb == nil && (okw || okh) {
 		c.vp = r2.Vec{X: w / (0.0254 / 96), Y: h / (0.0254 / 96)}
+		if opts.Unit == "" && rr.d.FileUnit != "px" {
+			rr.warn(fmt.Sprintf("the root <svg> is %s wide or high but has no viewBox, so its user units are px (1/96 in), not %s", rr.d.FileUnit, rr.d.FileUnit))
+		}
 	}
 	rr.d.Unit = "px"
 	switch {

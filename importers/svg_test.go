@@ -316,6 +316,16 @@ func TestReadSVGFillRules(t *testing.T) {
 			t.Errorf("polyline %d (%s) is in group %d, want %v", i, p.Surface, p.Group, wantGroups)
 		}
 	}
+	// The root's own fill-rule is inherited too.
+	d = svgRead(t, `<svg xmlns="http://www.w3.org/2000/svg" fill-rule="evenodd"><path d="M0 0 H1 V1 Z"/></svg>`, ReadOptions{})
+	if d.FillRules[0] != EvenOdd {
+		t.Errorf("root fill-rule: got %v, want evenodd", d.FillRules[0])
+	}
+	// 60 nested groups stay within the default limit of 64.
+	d = svgRead(t, svgMM(strings.Repeat(`<g>`, 60)+`<rect width="1" height="1"/>`+strings.Repeat(`</g>`, 60)), ReadOptions{})
+	if len(d.Polylines) != 1 {
+		t.Errorf("60 nested groups: %d polylines, want 1", len(d.Polylines))
+	}
 	// Each use expansion is a fill group of its own, with the use's rule.
 	d = svgRead(t, svgMM(`<defs><path id="p" d="M0 0 H1 V1 Z"/></defs><use href="#p" fill-rule="evenodd"/><use href="#p"/>`), ReadOptions{})
 	if fmt.Sprint(d.FillRules) != fmt.Sprint([]FillRule{EvenOdd, NonZero}) || d.Polylines[1].Group != 1 {
