@@ -86,6 +86,11 @@ func dxfTBroken() []dxfTCase {
 		w.line("a", dxfTv(0, 0), dxfTv(1, 1))
 		return w.mark()
 	})
+	add("truncated inside OBJECTS", "ends inside the OBJECTS section", m, func(w *dxfT) int {
+		ents(w)
+		w.line("a", dxfTv(0, 0), dxfTv(1, 1)).endsec().section("OBJECTS").p(0, "DICTIONARY").p(5, "C").p(3, "ACAD_GROUP")
+		return w.mark()
+	})
 	add("truncated after a code", "ends after group code 20", m, func(w *dxfT) int {
 		ents(w)
 		w.ent("LINE", "a").p(10, 1.0)

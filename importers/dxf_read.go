@@ -173,15 +173,11 @@ func (f *dxfFile) parse(rd *dxfReader) error {
 
 // skipSection consumes pairs up to and including "0 ENDSEC".
 func (f *dxfFile) skipSection(rd *dxfReader, inside string) error {
-	for {
-		p, err := f.next(rd, inside)
-		if err != nil {
-			return err
-		}
-		if p.code == 0 && strings.EqualFold(p.val, "ENDSEC") {
-			return nil
-		}
+	err := rd.skipUntil("ENDSEC")
+	if errors.Is(err, io.EOF) {
+		return f.truncated(rd, inside)
 	}
+	return err
 }
 
 // dxfLayer is one entry of the LAYER table.

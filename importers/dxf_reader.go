@@ -8,6 +8,7 @@ import (
 	"io"
 	"math"
 	"strconv"
+	"strings"
 )
 
 // dxfMaxLine bounds one line of an ASCII DXF file, in bytes. The DXF
@@ -74,6 +75,30 @@ func (rd *dxfReader) checkStart() error {
 // dxfMaxLine is an InputError, found without reading the rest of it.
 func (rd *dxfReader) readLine() ([]byte, error) {
 	rd.buf = rd.buf[:0]
+	// Fast path: a whole line in the buffer is returned in place; callers use
+	// it before the next read.
+	if chunk, err := rd.br.ReadSlice('\n'); err == nil {
+		rd.line++
+		return bytes.TrimSpace(chunk), nil
+	} else if len(chunk) > dxfMaxLine {
+		return nil, &InputError{File: rd.name, Line: rd.line + 1, Offset: -1,
+			What: fmt.Sprintf("line is longer than %d bytes; DXF lines hold one short code or value", dxfMaxLine),
+			Hint: "the file is damaged or not ASCII DXF; export it again"}
+	} else {
+		rd.buf = append(rd.buf, chunk...)
+		switch {
+		case errors.Is(err, bufio.ErrBufferFull):
+		case errors.Is(err, io.EOF):
+			if len(rd.buf) == 0 {
+				return nil, io.EOF
+			}
+			rd.line++
+			return bytes.TrimSpace(rd.buf), nil
+		default:
+			return nil, &InputError{File: rd.name, Line: rd.line + 1, Offset: -1,
+				What: "reading failed: " + err.Error(), Hint: "check that the file is readable"}
+		}
+	}
 	for {
 		chunk, err := rd.br.ReadSlice('\n')
 		if len(rd.buf)+len(chunk) > dxfMaxLine {
@@ -101,34 +126,65 @@ func (rd *dxfReader) readLine() ([]byte, error) {
 	}
 }
 
-// next returns the next pair. At a clean end of input (no half pair) it
-// returns io.EOF; every other failure is an *InputError.
-func (rd *dxfReader) next() (dxfPair, error) {
-	if rd.peeked {
-		rd.peeked = false
-		return rd.pk, rd.pkErr
-	}
+// raw reads the next code line and value line. The value is only valid
+// until the next read. At a clean end of input (no half pair) it returns
+// io.EOF; every other failure is an *InputError.
+func (rd *dxfReader) raw() (int, []byte, error) {
 	codeLine, err := rd.readLine()
 	if err != nil {
-		return dxfPair{}, err
+		return 0, nil, err
 	}
 	cl := rd.line
 	code, ok := dxfAtoi(codeLine)
 	if !ok || code < -10 || code > 1071 {
-		return dxfPair{}, &InputError{File: rd.name, Line: cl, Offset: -1,
+		return 0, nil, &InputError{File: rd.name, Line: cl, Offset: -1,
 			What: fmt.Sprintf("found %q where a group code (an integer from 0 to 1071) was expected", dxfClip(codeLine)),
 			Hint: "the file is damaged, or a value spans two lines; export it again as ASCII DXF"}
 	}
 	val, err := rd.readLine()
 	if errors.Is(err, io.EOF) {
-		return dxfPair{}, &InputError{File: rd.name, Line: cl, Offset: -1,
+		return 0, nil, &InputError{File: rd.name, Line: cl, Offset: -1,
 			What: fmt.Sprintf("the file ends after group code %d; expected its value on the next line", code),
 			Hint: "the file is truncated; export it again"}
 	}
+	return code, val, err
+}
+
+// next returns the next pair (see raw for errors).
+func (rd *dxfReader) next() (dxfPair, error) {
+	if rd.peeked {
+		rd.peeked = false
+		return rd.pk, rd.pkErr
+	}
+	code, val, err := rd.raw()
 	if err != nil {
 		return dxfPair{}, err
 	}
 	return dxfPair{code: code, val: string(val), line: rd.line}, nil
+}
+
+// skipUntil consumes pairs until a code-0 pair whose value is end (ASCII
+// case-insensitive), without building strings for the pairs it skips. It
+// returns io.EOF when the input ends first.
+func (rd *dxfReader) skipUntil(end string) error {
+	if rd.peeked {
+		rd.peeked = false
+		if rd.pkErr != nil {
+			return rd.pkErr
+		}
+		if rd.pk.code == 0 && strings.EqualFold(rd.pk.val, end) {
+			return nil
+		}
+	}
+	for {
+		code, val, err := rd.raw()
+		if err != nil {
+			return err
+		}
+		if code == 0 && bytes.EqualFold(val, []byte(end)) {
+			return nil
+		}
+	}
 }
 
 // peek returns the next pair without consuming it.
