@@ -281,19 +281,31 @@ func NewRadiationReport(c RadiationCase) (*RadiationReport, error) {
 			Note: "max |sum_j F_ij - 1| over rows, open included (CHECKS.md G1); every ray ends somewhere"})
 		add(RadiationCheck{Name: b.name + " reciprocity", Value: rec, Limit: th.ReciprocityTolerance, Pass: rec <= th.ReciprocityTolerance,
 			Note: "max |A_i F_ij - A_j F_ji| / mean over pairs reliable both ways (CHECKS.md G2)"})
-		if cf := b.blk.Corrected; cf != nil {
+		balance := func(q []float64) float64 {
 			var s, tot float64
-			for _, q := range cf.NetHeat {
-				s += q
-				tot += math.Abs(q)
+			for _, x := range q {
+				s += x
+				tot += math.Abs(x)
 			}
-			bal := 0.0
-			if tot > 0 {
-				bal = math.Abs(s) / tot
+			if tot == 0 {
+				return 0
 			}
-			add(RadiationCheck{Name: b.name + " corrected heat balance", Value: bal, Limit: 1e-9, Pass: bal <= 1e-9,
-				Note: "|sum of net heats, open included| / sum of their magnitudes, with the smoothed factors"})
+			return math.Abs(s) / tot
 		}
+		bal := balance(b.blk.NetHeat)
+		add(RadiationCheck{Name: b.name + " heat balance", Value: bal, Limit: th.ReciprocityTolerance, Pass: bal <= th.ReciprocityTolerance,
+			Note: "|sum of net heats, open included| / sum of their magnitudes, with the estimated factors: non-zero by their reciprocity error"})
+		if cf := b.blk.Corrected; cf != nil {
+			bal := balance(cf.NetHeat)
+			add(RadiationCheck{Name: b.name + " corrected heat balance", Value: bal, Limit: 1e-9, Pass: bal <= 1e-9,
+				Note: "the same with the smoothed factors, which obey reciprocity: energy is conserved to rounding"})
+		}
+		iso, err := radIsothermal(b.v, c)
+		if err != nil {
+			return nil, err
+		}
+		add(RadiationCheck{Name: b.name + " isothermal net heat", Value: iso, Limit: 1e-9, Pass: iso <= 1e-9,
+			Note: "max |q_i| / (sigma T^4 A_i) with every surface and the surroundings at one temperature (second law; needs only summation)"})
 	}
 	if geom == nil {
 		return rep, nil
@@ -347,6 +359,36 @@ func NewRadiationReport(c RadiationCase) (*RadiationReport, error) {
 		Note: "max per-surface |q_mask - q_geometry| / |q_geometry| in per cent, raw factors, surfaces with non-negligible heat"})
 	rep.Difference = d
 	return rep, nil
+}
+
+// radIsothermal solves the case with every given temperature, the re-
+// radiating surfaces and the surroundings all at one temperature (the
+// largest given, else 300 K) and returns the largest |q_i| / (sigma T^4
+// A_i): zero for any emissivities when the rows sum to one.
+func radIsothermal(v *ViewFactors, c RadiationCase) (float64, error) {
+	tRef := 300.0
+	for _, t := range c.Temperature {
+		if t > 0 && (tRef == 300 || t > tRef) {
+			tRef = t
+		}
+	}
+	n := len(v.IDs)
+	temp := make([]float64, n)
+	for i := range temp {
+		temp[i] = tRef
+	}
+	x, err := NetRadiation(Enclosure{F: v.F, Area: v.Area, Emissivity: c.Emissivity, Temperature: temp, AmbientTemperature: tRef})
+	if err != nil {
+		return 0, fmt.Errorf("radiation report: isothermal check: %w", err)
+	}
+	eb := StefanBoltzmann * math.Pow(tRef, 4)
+	worst := 0.0
+	for i, q := range x.NetHeat {
+		if v.Area[i] > 0 {
+			worst = max(worst, math.Abs(q)/(eb*v.Area[i]))
+		}
+	}
+	return worst, nil
 }
 
 // radBlock builds one block: factors, residuals, reliability, the heat
