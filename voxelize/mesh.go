@@ -264,9 +264,12 @@ func m3SignedVolume(m *importers.Mesh) float64 {
 
 // EstimateMeshMemory returns the bytes Mesh will hold at its peak for grid g
 // and a mesh of the given number of triangles: the output fields (49 bytes a
-// cell, 53 with sign_confidence), the index and block lists (about 400 bytes
-// a triangle, twice that when the mesh needs repair) and the per-worker block
-// scratch. It refuses nothing; the caller decides what is too much.
+// cell, 53 with sign_confidence), the index, block lists and, when the mesh
+// needs repair, its welded copy (800 bytes a triangle, a measured upper
+// bound), and the per-worker block scratch (about 3 MB a worker). Only the
+// pages the build writes become resident: on a sphere filling its box about
+// 70 % of the field bytes. It refuses nothing; the caller decides what is
+// too much.
 func EstimateMeshMemory(g masks.Grid, triangles int) int64 {
 	cells := int64(g.NumCells())
 	perCell := int64(0)

@@ -178,16 +178,26 @@ func (j *m3Job) raster(blk masks.Block, n [3]int, t int, s *m3Scratch) {
 			} else if math.Abs(pd0) > j.band {
 				continue
 			}
+			// The ball of radius band + rad about the bounding sphere's
+			// centre holds every cell centre within the band of t.
+			dyz2 := (p0.Y-ctr.Y)*(p0.Y-ctr.Y) + (p0.Z-ctr.Z)*(p0.Z-ctr.Z)
+			reach := j.band + rad
+			if dyz2 > reach*reach {
+				continue
+			}
+			half := math.Sqrt(reach*reach - dyz2)
+			b0, b1 := j.cellRange(0, ctr.X-half, ctr.X+half)
+			i0, i1 = max(i0, b0), min(i1, b1)
 			row := (k - blk.Lo[1] + n[1]*(l-blk.Lo[2])) * n[0]
 			for i := i0; i <= i1; i++ {
 				c := row + i - blk.Lo[0]
 				p := r3.Vec{X: j.g.Origin[0] + (float64(i)+0.5)*hx, Y: p0.Y, Z: p0.Z}
-				pd := r3.Dot(fn, r3.Sub(p, va))
+				pd := pd0 + fn.X*(p.X-p0.X)
 				pd2 := pd * pd
 				if pd2 >= s.d2[c] && pd2 > r2 {
 					continue
 				}
-				if dc2 := m3Dist2(p, ctr); dc2 > rad*rad {
+				if dc2 := (p.X-ctr.X)*(p.X-ctr.X) + dyz2; dc2 > rad*rad {
 					lb := math.Sqrt(dc2) - rad
 					if lb2 := lb * lb; lb2 >= s.d2[c] && lb2 > r2 {
 						continue
