@@ -435,28 +435,7 @@ func (sc *radMaskScene) phi(x [3]float64) float64 {
 // starts at or below zero (its own cut cell on a concave wall) first has to
 // reach positive values within sc.escape, else it strikes where it stands.
 func (sc *radMaskScene) march(o, d [3]float64) (cell int, ok bool) {
-	var idx, step [3]int
-	var tMax, tDelta [3]float64
-	for a := range 3 {
-		tMax[a], tDelta[a] = math.Inf(1), math.Inf(1)
-		if a >= sc.dim {
-			continue
-		}
-		u := (o[a] - sc.org[a]) / sc.h[a]
-		i := int(math.Floor(u))
-		i = max(0, min(i, sc.n[a]-1))
-		idx[a] = i
-		switch {
-		case d[a] > 0:
-			step[a] = 1
-			tMax[a] = (sc.org[a] + float64(i+1)*sc.h[a] - o[a]) / d[a]
-			tDelta[a] = sc.h[a] / d[a]
-		case d[a] < 0:
-			step[a] = -1
-			tMax[a] = (sc.org[a] + float64(i)*sc.h[a] - o[a]) / d[a]
-			tDelta[a] = -sc.h[a] / d[a]
-		}
-	}
+	w := sc.newWalk(o, d)
 	at := func(t float64) [3]float64 { return [3]float64{o[0] + t*d[0], o[1] + t*d[1], o[2] + t*d[2]} }
 	nx, nxy := sc.n[0], sc.n[0]*sc.n[1]
 	tPrev, phiPrev := 0.0, sc.phi(o)
@@ -464,48 +443,16 @@ func (sc *radMaskScene) march(o, d [3]float64) (cell int, ok bool) {
 	escaping := phiPrev <= 0
 	tEntry := 0.0
 	for {
-		if !escaping && !sc.occ[(idx[0]>>radBlockShift)+sc.nb[0]*((idx[1]>>radBlockShift)+sc.nb[1]*(idx[2]>>radBlockShift))] {
-			// No cell of this block is near the interface: jump to where the
-			// ray leaves the block, stepping the traversal state by whole
-			// cell counts so that it stays exact.
-			var last [3]int
-			tStar, aStar := math.Inf(1), -1
-			for a := range sc.dim {
-				if step[a] == 0 {
-					continue
-				}
-				lo := idx[a] >> radBlockShift << radBlockShift
-				hi := min(lo+1<<radBlockShift, sc.n[a]) - 1
-				last[a] = hi - idx[a]
-				if step[a] < 0 {
-					last[a] = idx[a] - lo
-				}
-				if tb := tMax[a] + float64(last[a])*tDelta[a]; tb < tStar {
-					tStar, aStar = tb, a
-				}
-			}
-			for a := range sc.dim {
-				if step[a] == 0 {
-					continue
-				}
-				var k int
-				switch {
-				case a == aStar:
-					k = last[a] + 1
-				case tMax[a] <= tStar:
-					k = min(int((tStar-tMax[a])/tDelta[a])+1, last[a])
-				}
-				idx[a] += step[a] * k
-				tMax[a] += float64(k) * tDelta[a]
-			}
-			if idx[aStar] < 0 || idx[aStar] >= sc.n[aStar] {
+		if !escaping && sc.blockEmpty(&w) {
+			t, inside := sc.skipBlock(&w)
+			if !inside {
 				return 0, false
 			}
-			tEntry, havePrev = tStar, false
+			tEntry, havePrev = t, false
 			continue
 		}
-		c := idx[0] + nx*idx[1] + nxy*idx[2]
-		tExit := min(tMax[0], tMax[1], tMax[2])
+		c := w.idx[0] + nx*w.idx[1] + nxy*w.idx[2]
+		tExit := min(w.tMax[0], w.tMax[1], w.tMax[2])
 		if escaping || sc.nearBits[c>>6]>>(c&63)&1 != 0 {
 			if !havePrev {
 				tPrev, phiPrev, havePrev = tEntry, sc.phi(at(tEntry)), true
@@ -535,19 +482,103 @@ func (sc *radMaskScene) march(o, d [3]float64) (cell int, ok bool) {
 			havePrev = false
 		}
 		tEntry = tExit
-		a := 0
-		if tMax[1] < tMax[a] {
-			a = 1
-		}
-		if tMax[2] < tMax[a] {
-			a = 2
-		}
-		idx[a] += step[a]
-		if idx[a] < 0 || idx[a] >= sc.n[a] {
+		if !sc.stepWalk(&w) {
 			return 0, false
 		}
-		tMax[a] += tDelta[a]
 	}
+}
+
+// radWalk is the state of one Amanatides & Woo traversal: the current cell,
+// the step direction per axis, the ray parameter at the next cell boundary
+// per axis and the parameter length of one cell per axis.
+type radWalk struct {
+	idx, step    [3]int
+	tMax, tDelta [3]float64
+}
+
+// newWalk starts a traversal of o + t*d at the cell holding o (clamped).
+func (sc *radMaskScene) newWalk(o, d [3]float64) radWalk {
+	var w radWalk
+	for a := range 3 {
+		w.tMax[a], w.tDelta[a] = math.Inf(1), math.Inf(1)
+		if a >= sc.dim {
+			continue
+		}
+		i := int(math.Floor((o[a] - sc.org[a]) / sc.h[a]))
+		i = max(0, min(i, sc.n[a]-1))
+		w.idx[a] = i
+		switch {
+		case d[a] > 0:
+			w.step[a] = 1
+			w.tMax[a] = (sc.org[a] + float64(i+1)*sc.h[a] - o[a]) / d[a]
+			w.tDelta[a] = sc.h[a] / d[a]
+		case d[a] < 0:
+			w.step[a] = -1
+			w.tMax[a] = (sc.org[a] + float64(i)*sc.h[a] - o[a]) / d[a]
+			w.tDelta[a] = -sc.h[a] / d[a]
+		}
+	}
+	return w
+}
+
+// stepWalk moves to the next cell and reports whether it is in the grid.
+func (sc *radMaskScene) stepWalk(w *radWalk) bool {
+	a := 0
+	if w.tMax[1] < w.tMax[a] {
+		a = 1
+	}
+	if w.tMax[2] < w.tMax[a] {
+		a = 2
+	}
+	w.idx[a] += w.step[a]
+	if w.idx[a] < 0 || w.idx[a] >= sc.n[a] {
+		return false
+	}
+	w.tMax[a] += w.tDelta[a]
+	return true
+}
+
+// blockEmpty reports whether the block of the current cell has no cell
+// within near of the interface.
+func (sc *radMaskScene) blockEmpty(w *radWalk) bool {
+	return !sc.occ[(w.idx[0]>>radBlockShift)+sc.nb[0]*((w.idx[1]>>radBlockShift)+sc.nb[1]*(w.idx[2]>>radBlockShift))]
+}
+
+// skipBlock jumps to the first cell after the current block, stepping the
+// traversal state by whole cell counts so that it stays exact, and returns
+// the ray parameter there and whether that cell is in the grid.
+func (sc *radMaskScene) skipBlock(w *radWalk) (float64, bool) {
+	var last [3]int
+	tStar, aStar := math.Inf(1), -1
+	for a := range sc.dim {
+		if w.step[a] == 0 {
+			continue
+		}
+		lo := w.idx[a] >> radBlockShift << radBlockShift
+		hi := min(lo+1<<radBlockShift, sc.n[a]) - 1
+		last[a] = hi - w.idx[a]
+		if w.step[a] < 0 {
+			last[a] = w.idx[a] - lo
+		}
+		if tb := w.tMax[a] + float64(last[a])*w.tDelta[a]; tb < tStar {
+			tStar, aStar = tb, a
+		}
+	}
+	for a := range sc.dim {
+		if w.step[a] == 0 {
+			continue
+		}
+		var k int
+		switch {
+		case a == aStar:
+			k = last[a] + 1
+		case w.tMax[a] <= tStar:
+			k = min(int((tStar-w.tMax[a])/w.tDelta[a])+1, last[a])
+		}
+		w.idx[a] += w.step[a] * k
+		w.tMax[a] += float64(k) * w.tDelta[a]
+	}
+	return tStar, w.idx[aStar] >= 0 && w.idx[aStar] < sc.n[aStar]
 }
 
 // hitCell returns the cell whose surface id names what the ray x(t) struck
