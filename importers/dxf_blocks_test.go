@@ -205,3 +205,24 @@ func TestReadDXFInsertTolerance(t *testing.T) {
 		t.Errorf("area = %.6f, want %.6f within %.3g", got, want, 2*math.Pi*100*tol)
 	}
 }
+
+func TestReadDXFInsertNonUniform(t *testing.T) {
+	// A unit circle inserted with scale (3, 1) is the ellipse x^2/9 + y^2 = 1
+	// of area pi a b = 3 pi (standard geometry); its vertices lie on it and the
+	// chord error stays within the tolerance, bounded through the largest
+	// stretch of the insert.
+	const tol = 1e-4
+	text := dxfTDoc(6, func(w *dxfT) {
+		w.block("C", r2.Vec{}, func(w *dxfT) { w.circle("0", r2.Vec{}, 1) })
+	}, func(w *dxfT) { w.insert("e", "C", r2.Vec{}, 3, 1, 0) })
+	pl := dxfTRead(t, text, ReadOptions{ChordTolerance: tol}).Polylines[0]
+	for _, p := range pl.Points {
+		if dev := math.Abs(p.X*p.X/9 + p.Y*p.Y - 1); dev > 1e-12 {
+			t.Fatalf("vertex %v is off the ellipse by %.3g", p, dev)
+		}
+	}
+	per := 4 * (3 + 1.0) // the bounding box's perimeter exceeds the ellipse's (convex sets)
+	if got, want := dxfTArea(pl.Points), 3*math.Pi; want-got < 0 || want-got > per*tol {
+		t.Errorf("area = %.8f, want %.8f within %.2g", got, want, per*tol)
+	}
+}

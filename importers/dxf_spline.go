@@ -160,9 +160,16 @@ func (em *dxfEmitter) splinePoints(dst []r2.Vec, e *dxfEntity, tol float64) ([]r
 		return nil, false, err
 	}
 	s.sc = sc
+	start := len(dst)
 	pts, ok := s.flatten(dst, tol)
 	if !ok {
 		return nil, false, em.tooFine(e, em.tol)
+	}
+	if gap := r2.Norm(r2.Sub(pts[len(pts)-1], pts[start])); closed && gap > tol {
+		// Some writers store periodic splines without repeating the first
+		// control points; the loop is then closed by a straight segment.
+		em.warn(fmt.Sprintf("%s: the closed spline ends %g drawing units from its start; the gap is closed with a straight segment",
+			e.place, gap))
 	}
 	return pts, closed, nil
 }

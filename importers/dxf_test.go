@@ -295,6 +295,18 @@ func TestReadDXFSplineCubicGraph(t *testing.T) {
 	}
 }
 
+func TestReadDXFClosedSplineGap(t *testing.T) {
+	// A spline flagged closed whose curve does not return to its start is
+	// closed with a straight segment, and the reader says so.
+	text := dxfTDoc(6, nil, func(w *dxfT) {
+		w.spline("s", 2, 1|8, []float64{0, 0, 0, 1, 1, 1}, nil, []r2.Vec{dxfTv(0, 0), dxfTv(1, 2), dxfTv(2, 0)}, nil)
+	})
+	d := dxfTRead(t, text, ReadOptions{ChordTolerance: 1e-4})
+	if !d.Polylines[0].Closed || !strings.Contains(strings.Join(d.Warnings, "\n"), "closed with a straight segment") {
+		t.Errorf("closed %v, warnings %q; want a closed polyline and a warning", d.Polylines[0].Closed, d.Warnings)
+	}
+}
+
 func TestReadDXFFitSpline(t *testing.T) {
 	// Property: the interpolating spline passes through its fit points, and
 	// with chord-length parameters it reproduces a straight line exactly
