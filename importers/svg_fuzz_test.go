@@ -75,33 +75,38 @@ func TestReadSVGTestdata(t *testing.T) {
 			if name != "burner_plate.svg" {
 				return
 			}
-			// Plate area: rounded rect 120 x 60 mm with rx = ry = 6 (exact
-			// w h - (4 - pi) r^2) minus ten ports of radius 2.5 (CHECKS.md F2,
-			// pi r^2). The ports lie inside the rim, so with evenodd the solid
-			// is |rim| minus the sum of |port|.
-			want := (120*60 - (4-math.Pi)*36 - 10*math.Pi*6.25) * 1e-6
-			var got, band float64
-			for _, p := range d.Polylines {
+			// The plate is one evenodd path: a rounded rect 120 x 60 mm with
+			// rx = ry = 6 (exact area w h - (4 - pi) r^2) and ten port
+			// subpaths of radius 2.5 (CHECKS.md F2, pi r^2). Two pins of
+			// radius 1, drawn by use, are fill groups of their own and stand
+			// in ports, so the solid is |rim| - sum |port| + sum |pin|.
+			// The band allows every chord its tolerance along its perimeter.
+			const tol = 1e-7
+			want := (120*60 - (4-math.Pi)*36 - 10*math.Pi*6.25 + 2*math.Pi) * 1e-6
+			band := (360e-3 + 10*2*math.Pi*2.5e-3 + 2*2*math.Pi*1e-3) * tol
+			var got float64
+			var names []string
+			for i, p := range d.Polylines {
 				a := math.Abs(svgShoelace(p.Points))
-				switch p.Surface {
-				case "rim":
+				switch {
+				case i == 0: // the rim comes first
 					got += a
-					band += 360e-3 * 1e-7
-				case "port":
+				case p.Surface == "plate":
 					got -= a
-					band += 2 * math.Pi * 2.5e-3 * 1e-7
 				default:
-					t.Errorf("unexpected surface %q", p.Surface)
+					got += a
+					names = append(names, p.Surface)
 				}
 			}
-			if len(d.Polylines) != 11 || math.Abs(got-want) > band {
-				t.Errorf("%d polylines, plate area %.12g m^2; want 11, %.12g ± %.2g", len(d.Polylines), got, want, band)
+			if len(d.Polylines) != 13 || math.Abs(got-want) > band {
+				t.Errorf("%d polylines, plate area %.12g m^2; want 13, %.12g ± %.2g", len(d.Polylines), got, want, band)
 			}
-			for _, r := range d.FillRules {
-				if r != EvenOdd {
-					t.Errorf("fill rules %v, want all evenodd (inherited from the plate group)", d.FillRules)
-					break
-				}
+			// Surfaces: the use's id, else the referenced element's id.
+			if fmt.Sprint(names) != "[pin-left pin]" {
+				t.Errorf("pin surfaces %v, want [pin-left pin]", names)
+			}
+			if fmt.Sprint(d.FillRules) != "[evenodd evenodd evenodd]" {
+				t.Errorf("fill rules %v, want three evenodd groups (plate, two pins)", d.FillRules)
 			}
 			if d.Skipped["text"] != 1 || d.Skipped["title"] != 1 || d.Skipped["grid"] != 1 || d.FileUnit != "mm" {
 				t.Errorf("Skipped %v, FileUnit %q; want text, title and grid once, mm", d.Skipped, d.FileUnit)
