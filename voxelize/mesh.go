@@ -140,7 +140,8 @@ const m3BlockSize = 32
 // output fields, the index and per-worker block scratch (EstimateMeshMemory).
 //
 // Errors: a grid that fails Validate or is not 3D, a nil mesh, an index out
-// of range, or a non-finite coordinate. A mesh with no triangles gives an
+// of range, a TriangleSurface whose length is neither 0 nor the number of
+// triangles, or a non-finite coordinate. A mesh with no triangles gives an
 // all-fluid mask (SignMethod "none").
 func Mesh(ctx context.Context, m *importers.Mesh, g masks.Grid, opts Options) (*masks.Mask, *MeshReport, error) {
 	if err := ctx.Err(); err != nil {
@@ -294,6 +295,11 @@ type m3Job struct {
 	h                  [3]float64
 	hmin, band, rCell  float64
 	smooth, regionBand float64
+	// planeTol is how far (m) a vertex may lie on the wrong side of a
+	// neighbouring facet's plane and still count as on it: 1e-9 cells, or
+	// the round-off of coordinates of the mesh's size (1e-13 of its
+	// diagonal) when that is larger.
+	planeTol float64
 
 	blocks []masks.Block
 	nb     [3]int
@@ -329,6 +335,11 @@ func newM3Job(m *importers.Mesh, x *importers.MeshIndex, g masks.Grid, opts Opti
 	j.rCell = 0.5 * math.Sqrt(j.h[0]*j.h[0]+j.h[1]*j.h[1]+j.h[2]*j.h[2])
 	j.smooth = opts.SmoothingCells * j.hmin
 	j.regionBand = opts.bandCells() / 2 * j.hmin
+	j.planeTol = 1e-9 * j.hmin
+	if len(m.Triangles) > 0 {
+		lo, hi := m3Bounds(m)
+		j.planeTol = max(j.planeTol, 1e-13*r3.Norm(r3.Sub(hi, lo)))
+	}
 	j.blocks = g.Blocks([3]int{m3BlockSize, m3BlockSize, m3BlockSize})
 	for a := range 3 {
 		j.nb[a] = (g.Cells[a] + m3BlockSize - 1) / m3BlockSize

@@ -230,7 +230,7 @@ func (j *m3Job) addNear(c, t int, a r3.Vec, fn r3.Vec, s *m3Scratch) {
 	near := s.near[c*m3MaxNear : c*m3MaxNear+int(s.nearN[c])]
 	for _, e := range near {
 		en := j.x.FaceNormal(int(e))
-		if r3.Dot(en, fn) > 1-1e-12 && math.Abs(r3.Dot(en, j.mesh.Vertices[j.mesh.Triangles[e][0]])-off) <= 1e-9*j.hmin {
+		if r3.Dot(en, fn) > 1-1e-12 && math.Abs(r3.Dot(en, j.mesh.Vertices[j.mesh.Triangles[e][0]])-off) <= j.planeTol {
 			return
 		}
 	}
@@ -525,7 +525,7 @@ func (j *m3Job) fraction(p r3.Vec, c int, sd float64, nv r3.Vec, s *m3Scratch, r
 // intersection of their half-spaces), -1 when every vertex lies on the
 // fluid side (the fluid is), 0 otherwise.
 func (j *m3Job) convexity(near []int32) int {
-	tol := 1e-9 * j.hmin
+	tol := j.planeTol
 	convex, concave := true, true
 	for a, ta := range near {
 		fn := j.x.FaceNormal(int(ta))
