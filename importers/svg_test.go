@@ -113,6 +113,12 @@ func TestReadSVGEllipseAndRectArea(t *testing.T) {
 		{"rect clamped", `<rect x="10" y="10" width="40" height="20" rx="30" ry="30"/>`, 800 - (4-math.Pi)*200, 120},
 		{"rect clamped rx only", `<rect x="10" y="10" width="40" height="20" rx="15"/>`, 800 - (4-math.Pi)*150, 120},
 		{"rect sharp", `<rect x="10" y="10" width="40" height="20"/>`, 800, 0},
+		// Percentages of the 100 x 100 viewport; a radius takes them of
+		// sqrt((w^2 + h^2)/2) = 100 (SVG 1.1 section 7.10).
+		{"rect percent", `<rect x="10%" y="10%" width="40%" height="20%"/>`, 800, 0},
+		{"circle percent", `<circle cx="50" cy="50" r="10%"/>`, math.Pi * 100, 2 * math.Pi * 10},
+		// Absolute units in attributes are CSS px of the user space: 0.5in = 48 (CSS 2.1 section 4.3.2).
+		{"rect in inches", `<rect width="0.5in" height="10"/>`, 480, 0},
 		{"polygon", `<polygon points="0,0 30,0 30,10"/>`, 150, 0},
 		{"transformed circle", `<circle transform="translate(50 50) skewX(30) scale(3 0.5)" r="10"/>`, math.Pi * 100 * 1.5, 2 * math.Pi * 40},
 	} {
