@@ -31,15 +31,16 @@ type OrientReport struct {
 // the same direction. A patch that is sealed (no boundary edge) then gets
 // the sign of its volume fixed: positive when it is nested inside an even
 // number of other sealed patches (an outer boundary), negative inside an
-// odd number (the wall of a cavity); nesting is decided by the generalised
-// winding number (Jacobson et al. 2013) of the other patches at a point of
-// the patch, using the solid angle formula of Van Oosterom & Strackee (1983).
+// odd number (the wall of a cavity); nesting is decided by the parity of
+// the crossings of a ray from a point of the patch with each other sealed
+// patch (Jordan-Brouwer separation theorem), see meshOrientSealed.
 // An open patch keeps the winding of the majority of its facets.
 // Facets with repeated corners are kept unchanged.
 //
 // Cost: O(n log d) for the edge table of n facets with vertex degree d,
-// O(n) for the walk, plus O(n) per sealed patch whose box contains a point
-// of another sealed patch (nesting test).
+// O(n) for the walk, and for the nesting test one ray per sealed patch
+// through a grid of the facets, about O(n) in total for many small
+// separate bodies (a packed bed of particles).
 func OrientConsistently(m *Mesh) (*Mesh, OrientReport) {
 	p := meshPlanOrientation(m)
 	out := &Mesh{
@@ -270,67 +271,4 @@ func meshNewPatch(m *Mesh, flip []bool, members []int32) meshPatch {
 		pt.probes = append(pt.probes, r3.Scale(1.0/3, r3.Add(m.Vertices[tr[0]], r3.Add(m.Vertices[tr[1]], m.Vertices[tr[2]]))))
 	}
 	return pt
-}
-
-// meshOrientSealed flips whole sealed patches so that outer boundaries
-// enclose positive volume and cavity walls negative volume.
-func meshOrientSealed(m *Mesh, flip []bool, sealed []meshPatch) {
-	for i := range sealed {
-		pi := &sealed[i]
-		if pi.volume == 0 {
-			continue
-		}
-		// A probe on another patch (touching solids) sees a winding
-		// number near 1/2 there; such probes are skipped.
-		depth := 0
-		for _, q := range pi.probes {
-			d, clear := 0, true
-			for j := range sealed {
-				pj := &sealed[j]
-				if j == i || !meshBoxContains(pj.lo, pj.hi, q) {
-					continue
-				}
-				w := math.Abs(meshWindingNumber(m, flip, pj.tris, q))
-				if math.Abs(w-math.Round(w)) > 0.25 {
-					clear = false
-					break
-				}
-				if w > 0.5 {
-					d++
-				}
-			}
-			depth = d
-			if clear {
-				break
-			}
-		}
-		if (pi.volume < 0) == (depth%2 == 0) {
-			for _, t := range pi.tris {
-				flip[t] = !flip[t]
-			}
-		}
-	}
-}
-
-func meshBoxContains(lo, hi, p r3.Vec) bool {
-	return p.X >= lo.X && p.X <= hi.X && p.Y >= lo.Y && p.Y <= hi.Y && p.Z >= lo.Z && p.Z <= hi.Z
-}
-
-// meshWindingNumber returns the generalised winding number of the facets
-// tris at q: the sum of their signed solid angles over 4 pi (Jacobson et
-// al. 2013), each solid angle by Van Oosterom & Strackee (1983).
-func meshWindingNumber(m *Mesh, flip []bool, tris []int32, q r3.Vec) float64 {
-	var s float64
-	for _, t := range tris {
-		tr := m.Triangles[t]
-		a, b, c := r3.Sub(m.Vertices[tr[0]], q), r3.Sub(m.Vertices[tr[1]], q), r3.Sub(m.Vertices[tr[2]], q)
-		if flip[t] {
-			b, c = c, b
-		}
-		la, lb, lc := r3.Norm(a), r3.Norm(b), r3.Norm(c)
-		num := r3.Dot(a, r3.Cross(b, c))
-		den := la*lb*lc + r3.Dot(a, b)*lc + r3.Dot(a, c)*lb + r3.Dot(b, c)*la
-		s += 2 * math.Atan2(num, den)
-	}
-	return s / (4 * math.Pi)
 }
