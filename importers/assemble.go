@@ -170,7 +170,13 @@ func Assemble(ds []*Drawing, opts AssembleOptions) (*Outline, *AssemblyReport, e
 	rep.Problems = s.sortedProblems()
 	rep.Warnings = s.warnings
 	if p := rep.Fatal(); p != nil {
-		return o, rep, asmProblemError(p, rep)
+		fatal := 0
+		for k, n := range s.counts {
+			if k.IsFatal() {
+				fatal += n
+			}
+		}
+		return o, rep, asmProblemError(p, rep, fatal)
 	}
 	if len(o.Loops) == 0 {
 		r := s.refs[0]
@@ -367,20 +373,14 @@ func asmLength(m float64) string {
 }
 
 // asmProblemError turns the first fatal problem into the InputError a build
-// returns.
-func asmProblemError(p *Problem, rep *AssemblyReport) error {
+// returns; fatal counts every fatal problem found, listed or not.
+func asmProblemError(p *Problem, rep *AssemblyReport, fatal int) error {
 	what := fmt.Sprintf("%s at (%.9g, %.9g) m on surface %q", p.Kind, p.At.X, p.At.Y, p.Surface)
 	if p.Detail != "" {
 		what += ": " + p.Detail
 	}
-	n := 0
-	for _, q := range rep.Problems {
-		if q.Kind.IsFatal() {
-			n++
-		}
-	}
-	if n > 1 {
-		what += fmt.Sprintf(" (and %d more problems)", n-1)
+	if fatal > 1 {
+		what += fmt.Sprintf(" (and %d more problems)", fatal-1)
 	}
 	what += "; the outline cannot bound a solid"
 	var hint string

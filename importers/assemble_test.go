@@ -813,3 +813,80 @@ func TestAssembleFarFromOrigin(t *testing.T) {
 	}
 	asmCheckOrientation(t, o)
 }
+
+// TestAssembleCrossingsBruteForce compares the grid-based crossing check with
+// an all-pairs test on random polygons in general position (no exact
+// contacts, so every intersection is a proper crossing): the number of
+// crossing and self-intersection problems must equal the number of
+// intersecting pairs of non-adjacent edges.
+func TestAssembleCrossingsBruteForce(t *testing.T) {
+	for seed := range uint64(12) {
+		rng := rand.New(rand.NewPCG(seed, 3))
+		var pls []Polyline
+		spread := []float64{1, 10, 1000}[seed%3] // sparse layouts stress the grid's cell size
+		for range 2 + rng.IntN(5) {
+			cx, cy := rng.Float64()*spread, rng.Float64()*spread
+			n := 3 + rng.IntN(12)
+			var pts []r2.Vec
+			for range n {
+				pts = append(pts, asmV(cx+rng.NormFloat64(), cy+rng.NormFloat64()*0.3))
+			}
+			pls = append(pls, Polyline{Points: pts, Closed: true, Surface: "R"})
+		}
+		_, rep, _ := Assemble([]*Drawing{asmTestDrawing(nil, pls...)}, AssembleOptions{})
+		got := 0
+		for _, p := range rep.Problems {
+			if p.Kind == ProblemCrossing || p.Kind == ProblemSelfIntersection {
+				got++
+			}
+		}
+		type edge struct {
+			loop, k, n int
+			a, b       r2.Vec
+		}
+		var es []edge
+		for li, p := range pls {
+			n := len(p.Points)
+			for k := range n {
+				es = append(es, edge{li, k, n, p.Points[k], p.Points[(k+1)%n]})
+			}
+		}
+		want := 0
+		for i := range es {
+			for j := i + 1; j < len(es); j++ {
+				e, f := es[i], es[j]
+				if e.loop == f.loop && (f.k == e.k+1 || (e.k == 0 && f.k == e.n-1)) {
+					continue // adjacent edges share a vertex
+				}
+				if asmOrient(e.a, e.b, f.a)*asmOrient(e.a, e.b, f.b) < 0 && asmOrient(f.a, f.b, e.a)*asmOrient(f.a, f.b, e.b) < 0 {
+					want++
+				}
+			}
+		}
+		if want > asmMaxListed {
+			t.Fatalf("seed %d: %d crossings exceed the listing cap; shrink the test", seed, want)
+		}
+		if got != want {
+			t.Errorf("seed %d: %d crossing problems, want %d (all pairs)", seed, got, want)
+		}
+	}
+}
+
+// TestAssembleListingCap checks that a badly broken drawing gives a bounded
+// report: 300 stray LINEs make 600 open ends, of which 200 are listed.
+func TestAssembleListingCap(t *testing.T) {
+	var pls []Polyline
+	for i := range 300 {
+		pls = append(pls, Polyline{Points: []r2.Vec{asmV(float64(i), 0), asmV(float64(i), 0.5)}, Surface: "X"})
+	}
+	_, rep, err := Assemble([]*Drawing{asmTestDrawing(nil, pls...)}, AssembleOptions{})
+	if err == nil || len(rep.Problems) != asmMaxListed {
+		t.Fatalf("err %v, %d problems listed; want an error and %d", err, len(rep.Problems), asmMaxListed)
+	}
+	if !slices.Contains(rep.Warnings, "600 open end problems found; only the first 200 are listed") {
+		t.Errorf("warnings %q lack the count of open ends", rep.Warnings)
+	}
+	if !strings.Contains(err.Error(), "and 599 more problems") {
+		t.Errorf("error %q, want it to count the listed problems", err)
+	}
+}
