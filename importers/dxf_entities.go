@@ -44,6 +44,7 @@ type dxfEntity struct {
 
 	verts      []dxfVertex // LINE end points, polyline vertices, spline control points
 	fit        []r2.Vec    // spline fit points
+	tan0, tan1 r2.Vec      // spline start and end tangents (groups 12 and 13), zero when absent
 	zMin, zMax float64     // range of world z of LINE, SPLINE and ELLIPSE points
 	hasZ       bool
 
@@ -285,6 +286,14 @@ func dxfDecodeKind(e *dxfEntity, p dxfPair, num func(dxfPair) (float64, error), 
 				return err
 			}
 			vt.p.Y = v
+		case 12:
+			e.tan0.X = v
+		case 22:
+			e.tan0.Y = v
+		case 13:
+			e.tan1.X = v
+		case 23:
+			e.tan1.Y = v
 		case 11:
 			e.fit = append(e.fit, r2.Vec{X: v})
 		case 21:

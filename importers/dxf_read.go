@@ -14,23 +14,28 @@ import (
 // It reads LINE, ARC, CIRCLE, LWPOLYLINE (with bulge arcs), 2D POLYLINE,
 // ELLIPSE, SPLINE (NURBS, or fit points only) and INSERT/MINSERT of blocks
 // (nested, scaled, mirrored, rotated) from the ENTITIES section, skipping
-// paper-space entities (group 67 = 1). Each entity becomes one Polyline in
-// fill group 0 (Drawing.FillRules is [EvenOdd]) whose Surface is the entity's
-// layer; an entity of a block on layer "0" takes the layer of the INSERT
-// that places it. Curves are flattened so that no chord is farther than
-// opts.ChordTolerance from the curve; closed entities give Closed polylines
-// that do not repeat their first point. Entities with extrusion (0,0,-1) are
-// mapped through the DXF arbitrary-axis algorithm (x -> -x); other tilted
-// entities, 3D polylines and meshes are skipped with a warning. TEXT, HATCH,
-// DIMENSION and other non-outline kinds are counted in Drawing.Skipped.
+// paper-space (group 67 = 1) and invisible (group 60 = 1) entities. Each
+// entity becomes one Polyline in fill group 0 (Drawing.FillRules is
+// [EvenOdd]) whose Surface is the entity's layer; an entity of a block on
+// layer "0" takes the layer of the INSERT that places it. Curves are
+// flattened so that no chord is farther than opts.ChordTolerance from the
+// curve (arcs by the sagitta formula, splines by adaptive bisection);
+// closed entities give Closed polylines that do not repeat their first
+// point. Entities with extrusion (0,0,-1) are mapped through the DXF
+// arbitrary-axis algorithm (x -> -x); other tilted entities, 3D polylines
+// and meshes are skipped with a warning. TEXT, HATCH, DIMENSION and other
+// non-outline kinds are counted in Drawing.Skipped. Drawing.Warnings also
+// names off or frozen layers that hold outline geometry.
 //
 // The length unit is opts.Unit when given, else $INSUNITS of the HEADER
 // (1 in, 2 ft, 4 mm, 5 cm, 6 m, 13 um, 14 dm); a file that declares none,
 // read without opts.Unit, is an error. Coordinates beyond 1e12 drawing
 // units, NaN, damaged group codes, truncation, unknown or recursive blocks,
 // nesting deeper than opts.MaxDepth and binary DXF return *InputError with
-// the 1-based line. Time and memory are linear in the file size, with the
-// output bounded by documented caps on points and block instances.
+// the 1-based line. Time and memory are linear in the file size, the
+// output being bounded by caps of 2^23 points, 2^22 placed block entities
+// and 2^18 chords per curve; a drawing beyond them is an *InputError that
+// suggests a coarser tolerance.
 func ReadDXF(r io.Reader, name string, opts ReadOptions) (*Drawing, error) {
 	rd := dxfNewReader(r, name)
 	if err := rd.checkStart(); err != nil {

@@ -47,13 +47,10 @@ func dxfTScratch(p int) dxfSplineScratch {
 func TestDXFFitSplineAgainstScipy(t *testing.T) {
 	// Reference library: scipy.interpolate.make_interp_spline (scipy 1.10)
 	// solves the same collocation problem when given our chord-length
-	// parameters and averaged knots, so the control points must agree.
+	// parameters and averaged knots (and, with end tangents, the first
+	// derivatives D = chord length x unit tangent as bc_type), so the
+	// control points must agree.
 	fit := []r2.Vec{{X: 0, Y: 0}, {X: 1, Y: 2}, {X: 3, Y: 3}, {X: 4, Y: 1}, {X: 6, Y: 0}, {X: 7, Y: 2}, {X: 9, Y: 2.5}}
-	em := &dxfEmitter{name: "t.dxf", spline: dxfTScratch(3)}
-	s, err := em.splineFromFit(&dxfEntity{kind: "SPLINE", degree: 3, fit: fit}, false)
-	if err != nil {
-		t.Fatal(err)
-	}
 	ub := []float64{0}
 	var total float64
 	for i := 1; i < len(fit); i++ {
@@ -71,18 +68,44 @@ func TestDXFFitSplineAgainstScipy(t *testing.T) {
 import json, sys
 import numpy as np
 from scipy.interpolate import make_interp_spline
-d = json.load(sys.stdin)
-b = make_interp_spline(np.array(d["ub"]), np.array(d["q"]), k=3, t=np.array(d["t"]))
-print(json.dumps(b.c.tolist()))
+out = []
+for d in json.load(sys.stdin):
+    bc = None
+    if d["d0"] is not None:
+        bc = ([(1, np.array(d["d0"]))], [(1, np.array(d["d1"]))])
+    b = make_interp_spline(np.array(d["ub"]), np.array(d["q"]), k=3, t=np.array(d["t"]), bc_type=bc)
+    out.append(b.c.tolist())
+print(json.dumps(out))
 `
-	var ctrl [][2]float64
-	dxfTScipy(t, script, map[string]any{"ub": ub, "q": q, "t": s.u}, &ctrl)
-	if len(ctrl) != len(s.ctrl) {
-		t.Fatalf("scipy gives %d control points, we have %d", len(ctrl), len(s.ctrl))
+	tan0, tan1 := r2.Vec{X: 1, Y: 1}, r2.Vec{X: 2, Y: -1}
+	var ours []*dxfNURBS
+	var in []map[string]any
+	for _, withTan := range []bool{false, true} {
+		e := &dxfEntity{kind: "SPLINE", degree: 3, fit: fit}
+		var d0, d1 any
+		if withTan {
+			e.tan0, e.tan1 = tan0, tan1
+			d0 = []float64{total * tan0.X / r2.Norm(tan0), total * tan0.Y / r2.Norm(tan0)}
+			d1 = []float64{total * tan1.X / r2.Norm(tan1), total * tan1.Y / r2.Norm(tan1)}
+		}
+		em := &dxfEmitter{name: "t.dxf", spline: dxfTScratch(3)}
+		s, err := em.splineFromFit(e, false)
+		if err != nil {
+			t.Fatal(err)
+		}
+		ours = append(ours, s)
+		in = append(in, map[string]any{"ub": ub, "q": q, "t": s.u, "d0": d0, "d1": d1})
 	}
-	for i, c := range ctrl {
-		if d := r2.Norm(r2.Sub(s.ctrl[i], r2.Vec{X: c[0], Y: c[1]})); d > 1e-10 {
-			t.Errorf("control point %d = %v, scipy %v", i, s.ctrl[i], c)
+	var ref [][][2]float64
+	dxfTScipy(t, script, in, &ref)
+	for k, s := range ours {
+		if len(ref[k]) != len(s.ctrl) {
+			t.Fatalf("case %d: scipy gives %d control points, we have %d", k, len(ref[k]), len(s.ctrl))
+		}
+		for i, c := range ref[k] {
+			if d := r2.Norm(r2.Sub(s.ctrl[i], r2.Vec{X: c[0], Y: c[1]})); d > 1e-10 {
+				t.Errorf("case %d: control point %d = %v, scipy %v", k, i, s.ctrl[i], c)
+			}
 		}
 	}
 }

@@ -3,7 +3,6 @@ package importers
 import (
 	"fmt"
 	"math"
-	"slices"
 
 	"gonum.org/v1/gonum/spatial/r2"
 )
@@ -216,12 +215,15 @@ func (em *dxfEmitter) splineFromControl(e *dxfEntity) (*dxfNURBS, error) {
 	return &dxfNURBS{p: p, u: e.knots, ctrl: ctrl, w: w}, nil
 }
 
-// splineFromFit builds the spline of degree min(71, points-1) that passes
+// splineFromFit builds the spline of degree min(71, unknowns-1) that passes
 // through the fit points of e, with chord-length parameters and knots by
 // averaging (Piegl & Tiller, The NURBS Book, 2nd ed., sec. 9.2.1, eqs. 9.5
-// and 9.8, from memory). A closed spline repeats its first fit point at the
-// end. The collocation matrix is banded and totally positive, so Gaussian
-// elimination without pivoting is stable (de Boor); cost O(n p^2).
+// and 9.8, from memory). When both end tangents (groups 12 and 13) are
+// given, two more control points make the curve leave and enter along
+// them, scaled by the total chord length (sec. 9.2.2, from memory). A
+// closed spline repeats its first fit point at the end and ignores
+// tangents. The collocation matrix is banded and totally positive, so
+// Gaussian elimination without pivoting is stable (de Boor); cost O(n p^2).
 func (em *dxfEmitter) splineFromFit(e *dxfEntity, closed bool) (*dxfNURBS, error) {
 	q := make([]r2.Vec, 0, len(e.fit)+1)
 	for _, v := range e.fit {
@@ -237,7 +239,6 @@ func (em *dxfEmitter) splineFromFit(e *dxfEntity, closed bool) (*dxfNURBS, error
 		return nil, nil
 	}
 	n := len(q) - 1
-	p := min(e.degree, n)
 	ub := make([]float64, n+1)
 	total := 0.0
 	for k := 1; k <= n; k++ {
@@ -248,41 +249,90 @@ func (em *dxfEmitter) splineFromFit(e *dxfEntity, closed bool) (*dxfNURBS, error
 		ub[k] /= total
 	}
 	ub[n] = 1
-	u := make([]float64, n+p+2)
-	for j := 1; j <= n-p; j++ {
+	t0, t1 := r2.Norm(e.tan0), r2.Norm(e.tan1)
+	tangents := !closed && t0 > 0 && t1 > 0
+	nc := n + 1 // control points
+	if tangents {
+		nc = n + 3
+	}
+	p := min(e.degree, nc-1)
+	// Knots: clamped ends; inner knots average p consecutive parameters,
+	// shifted by one when the tangent rows add two unknowns.
+	u := make([]float64, nc+p+1)
+	first := 0
+	if tangents {
+		first = -1
+	}
+	for j := 1; j <= nc-1-p; j++ {
 		var s float64
-		for i := j; i < j+p; i++ {
+		for i := j + first; i < j+first+p; i++ {
 			s += ub[i]
 		}
 		u[j+p] = s / float64(p)
 	}
-	for j := n + 1; j < len(u); j++ {
+	for j := nc; j < len(u); j++ {
 		u[j] = 1
 	}
-	w := make([]float64, n+1)
+	w := make([]float64, nc)
 	for i := range w {
 		w[i] = 1
 	}
-	s := &dxfNURBS{p: p, u: u, ctrl: make([]r2.Vec, n+1), w: w, sc: &em.spline}
-	// Banded rows: row k holds columns lo[k] .. lo[k]+p.
-	lo := make([]int, n+1)
-	a := make([]float64, (n+1)*(p+1))
-	rhs := slices.Clone(q)
-	for k := 0; k <= n; k++ {
-		sp := s.span(ub[k])
-		lo[k] = sp - p
-		s.basis(sp, ub[k], a[k*(p+1):(k+1)*(p+1)])
+	s := &dxfNURBS{p: p, u: u, ctrl: make([]r2.Vec, nc), w: w, sc: &em.spline}
+	// Banded rows: row k holds columns lo[k] .. lo[k]+p, one row per unknown.
+	lo := make([]int, nc)
+	a := make([]float64, nc*(p+1))
+	rhs := make([]r2.Vec, nc)
+	row := func(k int) []float64 { return a[k*(p+1) : (k+1)*(p+1)] }
+	if tangents {
+		last := nc - 1
+		row(0)[0], rhs[0] = 1, q[0]
+		row(1)[0], row(1)[1] = -1, 1
+		rhs[1] = r2.Scale(u[p+1]/float64(p)*total/t0, e.tan0)
+		for k := 1; k < n; k++ {
+			sp := s.span(ub[k])
+			lo[k+1] = sp - p
+			s.basis(sp, ub[k], row(k+1))
+			rhs[k+1] = q[k]
+		}
+		lo[last-1], lo[last] = last-p, last-p
+		row(last - 1)[p-1], row(last - 1)[p] = -1, 1
+		rhs[last-1] = r2.Scale((1-u[len(u)-p-2])/float64(p)*total/t1, e.tan1)
+		row(last)[p], rhs[last] = 1, q[n]
+	} else {
+		for k := 0; k <= n; k++ {
+			sp := s.span(ub[k])
+			lo[k] = sp - p
+			s.basis(sp, ub[k], row(k))
+			rhs[k] = q[k]
+		}
 	}
-	at := func(row, col int) *float64 { return &a[row*(p+1)+col-lo[row]] }
 	singular := em.fail(e, "its fit points cannot be interpolated (the interpolation system is singular)",
 		"remove repeated or nearly repeated fit points, or export the spline with control points")
+	if !dxfSolveBanded(lo, a, rhs, p, s.ctrl) {
+		return nil, singular
+	}
+	return s, nil
+}
+
+// dxfSolveBanded solves the square system whose row k has its non-zeros in
+// columns lo[k] .. lo[k]+p (lo non-decreasing), by Gaussian elimination
+// without pivoting, writing the solution to x. It returns false when a
+// pivot vanishes or the band does not hold the diagonal.
+func dxfSolveBanded(lo []int, a []float64, rhs []r2.Vec, p int, x []r2.Vec) bool {
+	n := len(lo) - 1
+	for k := 1; k <= n; k++ {
+		if lo[k] < lo[k-1] {
+			return false
+		}
+	}
+	at := func(row, col int) *float64 { return &a[row*(p+1)+col-lo[row]] }
 	for j := 0; j <= n; j++ {
 		if j < lo[j] || j > lo[j]+p {
-			return nil, singular
+			return false
 		}
 		piv := *at(j, j)
 		if !(math.Abs(piv) > 1e-14) {
-			return nil, singular
+			return false
 		}
 		hiCol := min(lo[j]+p, n)
 		for i := j + 1; i <= n && lo[i] <= j; i++ {
@@ -297,16 +347,16 @@ func (em *dxfEmitter) splineFromFit(e *dxfEntity, closed bool) (*dxfNURBS, error
 		}
 	}
 	for j := n; j >= 0; j-- {
-		x := rhs[j]
+		v := rhs[j]
 		for c := j + 1; c <= min(lo[j]+p, n); c++ {
-			x = r2.Sub(x, r2.Scale(*at(j, c), s.ctrl[c]))
+			v = r2.Sub(v, r2.Scale(*at(j, c), x[c]))
 		}
-		s.ctrl[j] = r2.Scale(1 / *at(j, j), x)
-		if math.IsNaN(s.ctrl[j].X) || math.IsNaN(s.ctrl[j].Y) {
-			return nil, singular
+		x[j] = r2.Scale(1 / *at(j, j), v)
+		if math.IsNaN(x[j].X) || math.IsNaN(x[j].Y) || math.IsInf(x[j].X, 0) || math.IsInf(x[j].Y, 0) {
+			return false
 		}
 	}
-	return s, nil
+	return true
 }
 
 // basis writes the p+1 non-zero basis functions N_{k-p..k,p}(t) into out

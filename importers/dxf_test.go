@@ -307,6 +307,26 @@ func TestReadDXFClosedSplineGap(t *testing.T) {
 	}
 }
 
+func TestReadDXFFitSplineTangents(t *testing.T) {
+	// With end tangents (groups 12 and 13) the curve still passes through the
+	// fit points and leaves and arrives along the tangents.
+	const tol = 1e-6
+	fit := []r2.Vec{dxfTv(0, 0), dxfTv(2, 1), dxfTv(4, 0)}
+	tan0, tan1 := dxfTv(0, 1), dxfTv(0, -1)
+	text := dxfTDoc(6, nil, func(w *dxfT) { w.spline("t", 3, 8, nil, nil, nil, fit).pt(12, tan0).pt(13, tan1) })
+	pts := dxfTRead(t, text, ReadOptions{ChordTolerance: tol}).Polylines[0].Points
+	for _, q := range fit {
+		if d := dxfTDistToPolyline(q, pts, false); d > tol {
+			t.Errorf("fit point %v is %.3g from the curve", q, d)
+		}
+	}
+	dir0 := r2.Unit(r2.Sub(pts[1], pts[0]))
+	dir1 := r2.Unit(r2.Sub(pts[len(pts)-1], pts[len(pts)-2]))
+	if r2.Dot(dir0, tan0) < 0.99 || r2.Dot(dir1, tan1) < 0.99 {
+		t.Errorf("first chord %v, last chord %v; want along %v and %v", dir0, dir1, tan0, tan1)
+	}
+}
+
 func TestReadDXFFitSpline(t *testing.T) {
 	// Property: the interpolating spline passes through its fit points, and
 	// with chord-length parameters it reproduces a straight line exactly
