@@ -123,10 +123,12 @@ func svgReadDocument(r io.Reader, file string, maxDepth int) (*svgDocument, erro
 			case errors.Is(err, io.EOF):
 				return doc, nil
 			case errors.As(err, &se):
-				return nil, fail(se.Line, "", "malformed XML: "+se.Msg, "the file is not well-formed XML; open it in an editor or browser to find the broken tag")
+				// encoding/xml quotes the offending text whole; a broken name can
+				// be megabytes long, so the message is cut.
+				return nil, fail(se.Line, "", "malformed XML: "+svgCut(se.Msg, 200), "the file is not well-formed XML; open it in an editor or browser to find the broken tag")
 			}
 			l, _ := dec.InputPos()
-			return nil, fail(l, "", "unreadable XML: "+err.Error(), "save the file as UTF-8 SVG")
+			return nil, fail(l, "", "unreadable XML: "+svgCut(err.Error(), 200), "save the file as UTF-8 SVG")
 		}
 		switch t := tok.(type) {
 		case xml.StartElement:
@@ -246,4 +248,12 @@ func (l *svgLatin1Reader) Read(p []byte) (int, error) {
 		l.pending = append(l.pending[:0], 0xC0|b>>6, 0x80|b&0x3F)
 	}
 	return n, nil
+}
+
+// svgCut shortens a message to at most n bytes of valid UTF-8.
+func svgCut(s string, n int) string {
+	if len(s) <= n {
+		return s
+	}
+	return strings.ToValidUTF8(s[:n], "") + "..."
 }
