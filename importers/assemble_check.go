@@ -299,10 +299,13 @@ func (s *asmState) reportPair(kind ProblemKind, es *asmEdgeSet, i, j int, at r2.
 	if rj < ri {
 		ri, rj = rj, ri
 	}
-	verb := map[ProblemKind]string{ProblemSelfIntersection: "crosses", ProblemCrossing: "crosses", ProblemDuplicateEdge: "overlaps"}[kind]
-	detail := fmt.Sprintf("an edge of %s %s an edge of %s", s.describe(ri), verb, s.describe(rj))
+	one, two := "crosses", "cross" // verb for one edge, for two
+	if kind == ProblemDuplicateEdge {
+		one, two = "overlaps", "overlap"
+	}
+	detail := fmt.Sprintf("an edge of %s %s an edge of %s", s.describe(ri), one, s.describe(rj))
 	if ri == rj {
-		detail = fmt.Sprintf("two edges of %s %s", s.describe(ri), map[string]string{"crosses": "cross", "overlaps": "overlap"}[verb])
+		detail = fmt.Sprintf("two edges of %s %s", s.describe(ri), two)
 	}
 	if note != "" {
 		detail += ": " + note
