@@ -66,7 +66,7 @@ func (em *dxfEmitter) run() error {
 		for i, k := range kinds {
 			parts[i] = fmt.Sprintf("%d %s", em.d.Skipped[k], k)
 		}
-		em.d.Warnings = append(em.d.Warnings, "skipped entities that are not outline geometry: "+strings.Join(parts, ", "))
+		em.d.Warnings = append(em.d.Warnings, "skipped entities (not model-space outline geometry): "+strings.Join(parts, ", "))
 	}
 	if em.dropped > 0 {
 		em.d.Warnings = append(em.d.Warnings, fmt.Sprintf("%d more warnings not shown", em.dropped))
