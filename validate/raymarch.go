@@ -45,6 +45,9 @@ type radMaskScene struct {
 	// smallest spacing, far below the O(h) bias of the reconstruction.
 	eps  float64
 	hmin float64 // smallest spacing, m
+	// facets selects marchFacets (RayOptions.MaskHits == FacetHits) over
+	// march (InterpolatedHits).
+	facets bool
 	// escape is how far a ray that starts inside the interpolated solid (a
 	// concave wall seen from its own cut cell) may travel before it counts as
 	// striking its own surface: two cell diagonals.
@@ -66,24 +69,26 @@ const radBlockShift = 3
 // about n (2D: sin(theta) ~ U(-1,1); 3D: normalize(n + u), u uniform on the
 // unit sphere; CHECKS.md sampling notes). Each ray walks the grid cell by
 // cell (Amanatides & Woo 1987, "A fast voxel traversal algorithm for ray
-// tracing", Eurographics '87) and ends where the signed distance, trilinearly
-// interpolated between cell centres (bilinearly in 2D), crosses zero; the
-// surface_id of the cell holding that point names the surface struck. A ray
-// that leaves the grid counts as open.
+// tracing", Eurographics '87), crossing blocks of 8^3 cells far from any
+// interface in one step, until it strikes solid: by default the facet of a
+// cut cell (FacetHits), or the zero of the signed distance interpolated
+// between cell centres (opts.MaskHits = InterpolatedHits). The surface_id of
+// the cell struck names the surface; a ray that leaves the grid is open.
 //
 // Rows are the surfaces of m.Surfaces in ascending id order (or the distinct
 // non-zero ids of the surface_id field when the table is empty); Area is the
 // sum of interface_density x cell volume over each surface's cells. The cost
-// is about one float32 load per cell crossed and one interpolation per cell
-// within a cell diagonal of the interface; with opts.RaysPerSurface = N and S
-// surfaces it emits N*S rays. A mask without signed_distance,
-// interface_density, normal or surface_id returns an error; a surface without
-// interface cells gets zero rays.
+// per ray is about one bit test per cell crossed near walls, one flag per
+// empty block, and a plane test per cut cell; N rays per surface and S
+// surfaces make N*S rays. A mask without signed_distance, interface_density,
+// normal or surface_id, or with a NaN distance, returns an error; a surface
+// without interface cells gets zero rays and zero area.
 func MaskViewFactors(ctx context.Context, m *masks.Mask, opts RayOptions) (*ViewFactors, error) {
 	sc, v, err := radPrepareMask(m)
 	if err != nil {
 		return nil, err
 	}
+	sc.facets = opts.MaskHits == FacetHits
 	v.Rays = vfRaysFor(v.Area, opts)
 	v.Seed = opts.seed()
 	hits, lost, err := vfRun(ctx, v.Rays, v.Seed, opts.workers(), func() vfShooter { return sc })
@@ -265,7 +270,13 @@ func (sc *radMaskScene) shoot(s int, r *rand.Rand) (int, bool) {
 	p, n := sc.emitPoint(c, r)
 	d := radCosineDir(sc.dim, n, r)
 	o := [3]float64{p[0] + sc.eps*n[0], p[1] + sc.eps*n[1], p[2] + sc.eps*n[2]}
-	hit, ok := sc.march(o, d)
+	var hit int
+	var ok bool
+	if sc.facets {
+		hit, ok = sc.marchFacets(o, d, c)
+	} else {
+		hit, ok = sc.march(o, d)
+	}
 	if !ok {
 		return sc.nRows, false
 	}
@@ -294,11 +305,12 @@ func (sc *radMaskScene) emitPoint(c int, r *rand.Rand) (p, n [3]float64) {
 	idx := [3]int{i, j, k}
 	var ctr, lo, hi [3]float64
 	for a := range sc.dim {
-		// The box is widened by 1e-9 of a cell so that a facet lying on a
-		// cell face (a wall aligned with the grid) is still sampled.
+		// The box is widened by 1e-6 of a cell so that a facet lying on a
+		// cell face (a wall aligned with the grid) is still sampled: float32
+		// distances put it up to ~3e-8 cells off the face.
 		ctr[a] = sc.org[a] + (float64(idx[a])+0.5)*sc.h[a]
-		lo[a] = ctr[a] - (0.5+1e-9)*sc.h[a]
-		hi[a] = ctr[a] + (0.5+1e-9)*sc.h[a]
+		lo[a] = ctr[a] - (0.5+1e-6)*sc.h[a]
+		hi[a] = ctr[a] + (0.5+1e-6)*sc.h[a]
 		n[a] = float64(sc.normals[c*sc.dim+a])
 	}
 	var nn float64
