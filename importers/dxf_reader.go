@@ -41,13 +41,14 @@ type dxfReader struct {
 	name   string
 	line   int // lines consumed so far
 	buf    []byte
+	delim  byte // line end: '\n', or '\r' for files with classic Mac line ends
 	peeked bool
 	pk     dxfPair
 	pkErr  error
 }
 
 func dxfNewReader(r io.Reader, name string) *dxfReader {
-	return &dxfReader{br: bufio.NewReaderSize(r, 64<<10), name: name}
+	return &dxfReader{br: bufio.NewReaderSize(r, 64<<10), name: name, delim: '\n'}
 }
 
 // checkStart rejects binary DXF and empty input before pair reading starts.
@@ -63,6 +64,10 @@ func (rd *dxfReader) checkStart() error {
 			What: "the file is empty; expected ASCII DXF group codes",
 			Hint: "check the path, or export the drawing as DXF again"}
 	}
+	// Files with CR-only line ends (classic Mac OS) have no LF at all.
+	if start, _ := rd.br.Peek(4096); bytes.IndexByte(start, '\n') < 0 && bytes.IndexByte(start, '\r') >= 0 {
+		rd.delim = '\r'
+	}
 	// A UTF-8 byte-order mark some editors add.
 	if bom, _ := rd.br.Peek(3); bytes.Equal(bom, []byte{0xEF, 0xBB, 0xBF}) {
 		_, _ = rd.br.Discard(3)
@@ -77,7 +82,7 @@ func (rd *dxfReader) readLine() ([]byte, error) {
 	rd.buf = rd.buf[:0]
 	// Fast path: a whole line in the buffer is returned in place; callers use
 	// it before the next read.
-	if chunk, err := rd.br.ReadSlice('\n'); err == nil {
+	if chunk, err := rd.br.ReadSlice(rd.delim); err == nil {
 		rd.line++
 		return bytes.TrimSpace(chunk), nil
 	} else if len(chunk) > dxfMaxLine {
@@ -100,7 +105,7 @@ func (rd *dxfReader) readLine() ([]byte, error) {
 		}
 	}
 	for {
-		chunk, err := rd.br.ReadSlice('\n')
+		chunk, err := rd.br.ReadSlice(rd.delim)
 		if len(rd.buf)+len(chunk) > dxfMaxLine {
 			return nil, &InputError{File: rd.name, Line: rd.line + 1, Offset: -1,
 				What: fmt.Sprintf("line is longer than %d bytes; DXF lines hold one short code or value", dxfMaxLine),

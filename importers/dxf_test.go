@@ -453,8 +453,9 @@ func TestReadDXFSkipped(t *testing.T) {
 }
 
 func TestReadDXFTolerantSyntax(t *testing.T) {
-	// CRLF line ends, blanks around codes and values, a byte-order mark, 999
-	// comments and no HEADER: all must read like the plain file.
+	// CRLF or CR-only line ends, blanks around codes and values, a
+	// byte-order mark, 999 comments and no HEADER: all must read like the
+	// plain file.
 	plain := dxfTDoc(-1, nil, func(w *dxfT) { w.p(999, "comment"); w.circle("c", dxfTv(1, 1), 2) })
 	var b strings.Builder
 	b.WriteString("\ufeff")
@@ -462,9 +463,11 @@ func TestReadDXFTolerantSyntax(t *testing.T) {
 		b.WriteString("  " + l + "  \r\n")
 	}
 	a := dxfTRead(t, plain, ReadOptions{Unit: "m"})
-	c := dxfTRead(t, b.String(), ReadOptions{Unit: "m"})
-	if len(a.Polylines) != 1 || !slices.Equal(a.Polylines[0].Points, c.Polylines[0].Points) || a.Polylines[0].Line != c.Polylines[0].Line {
-		t.Errorf("CRLF/blank variant reads differently")
+	for _, variant := range []string{b.String(), strings.ReplaceAll(plain, "\n", "\r")} {
+		c := dxfTRead(t, variant, ReadOptions{Unit: "m"})
+		if len(a.Polylines) != 1 || !slices.Equal(a.Polylines[0].Points, c.Polylines[0].Points) || a.Polylines[0].Line != c.Polylines[0].Line {
+			t.Errorf("CRLF/CR/blank variant %q reads differently", variant[:20])
+		}
 	}
 }
 
