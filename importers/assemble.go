@@ -151,7 +151,7 @@ func Assemble(ds []*Drawing, opts AssembleOptions) (*Outline, *AssemblyReport, e
 	rep.Tolerance = s.tol
 
 	pieces, loops := s.prepare()
-	loops = append(loops, s.chain(pieces)...)
+	loops = append(loops, s.chain(pieces, loops)...)
 	// File order of each loop's first piece, so output and messages follow the files.
 	slices.SortStableFunc(loops, func(a, b asmLoop) int { return cmp.Compare(a.ref[0], b.ref[0]) })
 	loops = s.dropDegenerate(loops)

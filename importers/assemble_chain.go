@@ -27,10 +27,11 @@ type asmPiece struct {
 }
 
 // chain joins open pieces whose ends lie within the tolerance into loops and
-// reports the ends that do not close: open ends, gaps and branches.
+// reports the ends that do not close: open ends, gaps and branches. closed
+// holds the closed polylines, for naming an edge an open end lies on.
 // Ends are clustered with a hash grid and union-find, so the cost is linear
 // in the number of pieces on ordinary drawings.
-func (s *asmState) chain(pieces []asmPiece) []asmLoop {
+func (s *asmState) chain(pieces []asmPiece, closed []asmLoop) []asmLoop {
 	n := len(pieces)
 	if n == 0 {
 		return nil
@@ -169,7 +170,7 @@ func (s *asmState) chain(pieces []asmPiece) []asmLoop {
 	if mixed > 0 {
 		s.warnings = append(s.warnings, fmt.Sprintf("%d chained loops join pieces of different fill groups; each takes the fill rule of its first piece", mixed))
 	}
-	s.reportOpenEnds(ends, deg, root, pieces)
+	s.reportOpenEnds(ends, deg, root, pieces, closed)
 	return loops
 }
 
@@ -194,7 +195,7 @@ const asmNearestCap = 1000
 // reportOpenEnds reports every end that meets no other: a gap when another
 // open end lies within asmGapFactor x tolerance (each pair once), else an
 // open end.
-func (s *asmState) reportOpenEnds(ends []r2.Vec, deg, root []int32, pieces []asmPiece) {
+func (s *asmState) reportOpenEnds(ends []r2.Vec, deg, root []int32, pieces []asmPiece, closed []asmLoop) {
 	var open []int
 	for e := range ends {
 		if deg[root[e]] == 1 {
@@ -209,6 +210,7 @@ func (s *asmState) reportOpenEnds(ends []r2.Vec, deg, root []int32, pieces []asm
 		pts[i] = ends[e]
 	}
 	reach := asmGapFactor * s.tol
+	searchEdges := len(open)*asmEdgeCount(pieces, closed) <= asmEdgeBudget // T-junctions, by brute force
 	g := asmNewGrid(pts, reach, s.maxAbs)
 	nearest := make([]int, len(open))
 	dist := make([]float64, len(open))
@@ -225,7 +227,13 @@ func (s *asmState) reportOpenEnds(ends []r2.Vec, deg, root []int32, pieces []asm
 		j := nearest[i]
 		if j < 0 {
 			detail := fmt.Sprintf("end of %s meets no other end within %s", s.describe(ref), asmLength(reach))
-			if len(open) <= asmNearestCap { // say how far the nearest is, to help choose a tolerance
+			on := -1
+			if searchEdges {
+				on = s.edgeAt(pts[i], e, pieces, closed)
+			}
+			if on >= 0 {
+				detail += fmt.Sprintf("; it lies on an edge of %s (a T-junction: split that piece there, or trim this one)", s.describe(on))
+			} else if len(open) <= asmNearestCap { // say how far the nearest is, to help choose a tolerance
 				k, dk := -1, math.Inf(1)
 				for m := range pts {
 					if d := r2.Norm(r2.Sub(pts[i], pts[m])); m != i && d < dk {
@@ -247,6 +255,56 @@ func (s *asmState) reportOpenEnds(ends []r2.Vec, deg, root []int32, pieces []asm
 		s.problem(ProblemGap, pts[i], ref, fmt.Sprintf("gap of %s to the end of %s at (%.9g, %.9g) m; join tolerance %s",
 			asmLength(dist[i]), s.describe(oref), pts[j].X, pts[j].Y, asmLength(s.tol))).Size = dist[i]
 	}
+}
+
+// asmEdgeBudget bounds the point-edge distance tests edgeAt may spend on
+// all open ends together (brute force; a broken soup skips the search).
+const asmEdgeBudget = 20_000_000
+
+// asmEdgeCount returns the number of edges of the pieces and closed loops.
+func asmEdgeCount(pieces []asmPiece, closed []asmLoop) int {
+	edges := 0
+	for _, pc := range pieces {
+		edges += len(pc.pts) - 1
+	}
+	for _, l := range closed {
+		edges += len(l.pts)
+	}
+	return edges
+}
+
+// edgeAt returns the polyline with an edge within the tolerance of p, the
+// open end e of pieces, other than the edge that ends there; -1 when there is
+// none. Cost: one distance test per edge.
+func (s *asmState) edgeAt(p r2.Vec, e int, pieces []asmPiece, closed []asmLoop) int {
+	near := func(a, b r2.Vec) bool {
+		d := r2.Sub(b, a)
+		t := 0.0
+		if l2 := r2.Dot(d, d); l2 > 0 {
+			t = min(max(r2.Dot(r2.Sub(p, a), d)/l2, 0), 1)
+		}
+		return r2.Norm(r2.Sub(p, r2.Add(a, r2.Scale(t, d)))) <= s.tol
+	}
+	own, ownEdge := e/2, 0 // the edge of its own piece that ends at p
+	if e%2 == 1 {
+		ownEdge = len(pieces[own].pts) - 2
+	}
+	for pi, pc := range pieces {
+		for k := range len(pc.pts) - 1 {
+			if (pi != own || k != ownEdge) && near(pc.pts[k], pc.pts[k+1]) {
+				return int(pc.ref)
+			}
+		}
+	}
+	for _, l := range closed {
+		n := len(l.pts)
+		for k := range n {
+			if near(l.pts[k], l.pts[(k+1)%n]) {
+				return int(l.ref[k])
+			}
+		}
+	}
+	return -1
 }
 
 // asmClean removes the zero-length edges a join can leave (exactly repeated

@@ -389,6 +389,8 @@ func TestAssembleProblems(t *testing.T) {
 			[]want{{ProblemOpenEnd, asmV(1, 1), 6, 0}, {ProblemOpenEnd, asmV(0, 1), 7, 0}}, false, true, "meets no other end"},
 		{"gap just above tolerance", 1e-6, append(square()[:3], line(0, 1, 0, 1.5e-6, "B", 40)),
 			[]want{{ProblemGap, asmV(0, 0), 10, 1.5e-6}}, false, true, "gap of 0.0015 mm"},
+		{"T-junction", 0, append(square(), line(0.5, 0, 0.5, -1, "STRAY", 50)),
+			[]want{{ProblemOpenEnd, asmV(0.5, 0), 50, 0}, {ProblemOpenEnd, asmV(0.5, -1), 50, 0}}, false, true, "lies on an edge of line 10"},
 		{"branch", 0, append(square(), line(0, 0, -1, -1, "STRAY", 50)),
 			[]want{{ProblemBranch, asmV(0, 0), 10, 0}, {ProblemOpenEnd, asmV(-1, -1), 50, 0}}, false, true, "3 ends meet"},
 		{"self-intersection", 0, []Polyline{{Points: []r2.Vec{asmV(0, 0), asmV(1, 1), asmV(1, 0), asmV(0, 1)}, Closed: true, Surface: "BOW", Line: 12}},
