@@ -121,8 +121,8 @@ func (r *AssemblyReport) Fatal() *Problem {
 // Cost: near-linear in the number of vertices on ordinary drawings (hash
 // grids for the joins, a uniform grid for the crossing check, a
 // bounding-box grid for nesting, which tests one vertex per candidate
-// parent). About 20 000 edges in 300 loops take some 10 ms (25 ms as
-// LINE soup) on one core.
+// parent). About 20 000 edges in 300 loops take some 5 ms of CPU time as
+// closed polylines, 20 ms as a soup of 20 000 LINE pieces.
 func Assemble(ds []*Drawing, opts AssembleOptions) (*Outline, *AssemblyReport, error) {
 	if t := opts.Tolerance; t < 0 || math.IsNaN(t) || math.IsInf(t, 0) {
 		return nil, nil, fmt.Errorf("assemble: join tolerance %g m must be zero (automatic) or a positive length", t)
