@@ -307,24 +307,23 @@ func (s *asmState) edgeAt(p r2.Vec, e int, pieces []asmPiece, closed []asmLoop) 
 	return -1
 }
 
-// asmClean removes the zero-length edges a join can leave (exactly repeated
-// vertices), keeping the surface of the edge that follows.
+// asmClean removes, in place, the zero-length edges a join can leave
+// (exactly repeated vertices), keeping the surface of the edge that follows.
 func asmClean(l asmLoop) asmLoop {
-	n := len(l.pts)
-	out := asmLoop{group: l.group, pts: l.pts[:0:0], surf: l.surf[:0:0], ref: l.ref[:0:0]}
-	for i := range n {
-		if k := len(out.pts); k > 0 && out.pts[k-1] == l.pts[i] {
-			out.surf[k-1], out.ref[k-1] = l.surf[i], l.ref[i]
+	k := 0 // kept so far; k <= i, so writing at k never overtakes reading at i
+	for i := range l.pts {
+		if k > 0 && l.pts[k-1] == l.pts[i] {
+			l.surf[k-1], l.ref[k-1] = l.surf[i], l.ref[i]
 			continue
 		}
-		out.pts = append(out.pts, l.pts[i])
-		out.surf = append(out.surf, l.surf[i])
-		out.ref = append(out.ref, l.ref[i])
+		l.pts[k], l.surf[k], l.ref[k] = l.pts[i], l.surf[i], l.ref[i]
+		k++
 	}
-	for k := len(out.pts); k > 1 && out.pts[k-1] == out.pts[0]; k-- {
-		out.pts, out.surf, out.ref = out.pts[:k-1], out.surf[:k-1], out.ref[:k-1]
+	for k > 1 && l.pts[k-1] == l.pts[0] {
+		k--
 	}
-	return out
+	l.pts, l.surf, l.ref = l.pts[:k], l.surf[:k], l.ref[:k]
+	return l
 }
 
 // dropDegenerate measures the loops and reports and drops those with fewer
