@@ -892,3 +892,26 @@ func TestAssembleListingCap(t *testing.T) {
 		t.Errorf("error %q, want it to count the listed problems", err)
 	}
 }
+
+// TestAssembleChainAcrossFiles joins a square drawn half in one file and
+// half in another: one loop, with a warning that it mixes fill groups, and
+// messages that name the file.
+func TestAssembleChainAcrossFiles(t *testing.T) {
+	line := func(x0, y0, x1, y1 float64, surface string) Polyline {
+		return Polyline{Points: []r2.Vec{asmV(x0, y0), asmV(x1, y1)}, Surface: surface}
+	}
+	d1 := asmTestDrawing(nil, line(0, 0, 1, 0, "A"), line(1, 0, 1, 1, "A"))
+	d2 := asmTestDrawing(nil, line(1, 1, 0, 1, "B"), line(0, 1, 0, 0, "B"), line(5, 5, 6, 6, "B"))
+	d2.File = "second.dxf"
+	o, rep, err := Assemble([]*Drawing{d1, d2}, AssembleOptions{})
+	if rep.Loops != 1 || len(o.Loops) != 1 || o.Area() != 1 {
+		t.Fatalf("loops %d, outline %d loops, area %g; want one unit square", rep.Loops, len(o.Loops), o.Area())
+	}
+	if !slices.ContainsFunc(rep.Warnings, func(w string) bool { return strings.Contains(w, "different fill groups") }) {
+		t.Errorf("warnings %q, want one about mixed fill groups", rep.Warnings)
+	}
+	var ie *InputError
+	if !errors.As(err, &ie) || ie.File != "second.dxf" || ie.Line != 30 || !strings.Contains(ie.What, "second.dxf line 30") {
+		t.Errorf("err = %v, want the stray line of second.dxf:30 named with its file", err)
+	}
+}
