@@ -281,9 +281,11 @@ func chkComponentChecks(rep *CheckReport, cr *ComponentReport, lab *Labels, w *W
 		rep.Add(Check{Name: "lost cavity", Subject: nm.region(l), Unit: "count", Pass: true, Warning: true,
 			Note: "no cell centre lies in this closed fluid region: the mask fills it"})
 	}
-	if cr.Disagree > 0 {
-		rep.Add(Check{Name: "cells classified against the geometry", Subject: "all cells", Measured: float64(cr.Disagree), Unit: "count",
-			Pass: true, Warning: true, Note: "cells whose mask class (indicator >= 1/2) differs from the exact point location of their centre; left out of the connectivity checks"})
+	if cr.Unresolved > 0 {
+		rep.Add(Check{Name: "cells classified against the geometry", Subject: "all cells", Measured: float64(cr.Unresolved), Unit: "count",
+			Pass: true, Warning: true, Note: fmt.Sprintf("cells whose mask class (indicator >= 1/2) differs from the exact point location of their centre and of every face neighbour; left out of the connectivity checks (%d disagreeing cells in all)", cr.Disagree)})
+	} else if cr.Disagree > 0 {
+		rep.Warnings = append(rep.Warnings, fmt.Sprintf("%d cell centres lie on the surface (mask and exact point location differ); each took the region of a neighbour", cr.Disagree))
 	}
 }
 

@@ -94,17 +94,45 @@ func MaskComponents(g masks.Grid, solid []bool, c Connectivity) *Components {
 		parent[i] = int32(i)
 	}
 	cls := func(r int32, ri int) bool { return solid[ri*nx+int(runs[r].x0)] }
-	merge := func(ra, rb int, ext int32) {
+	// merge unites the runs of rows ra and rb that share an x range (face
+	// neighbours) and, when diag, also those that meet only diagonally:
+	// the cell before and the cell after each run of ra.
+	merge := func(ra, rb int, diag bool) {
 		a, aEnd := rowStart[ra], rowStart[ra+1]
 		b, bEnd := rowStart[rb], rowStart[rb+1]
 		for a < aEnd && b < bEnd {
-			if runs[a].x0-ext < runs[b].x1 && runs[b].x0 < runs[a].x1+ext && cls(a, ra) == cls(b, rb) {
+			if runs[a].x0 < runs[b].x1 && runs[b].x0 < runs[a].x1 && cls(a, ra) == cls(b, rb) {
 				chkUnion(parent, a, b)
 			}
-			if runs[a].x1+ext < runs[b].x1 {
+			if runs[a].x1 < runs[b].x1 {
 				a++
 			} else {
 				b++
+			}
+		}
+		if !diag {
+			return
+		}
+		find := func(x int32) int32 { // the run of row rb holding cell x
+			lo, hi := rowStart[rb], rowStart[rb+1]
+			for lo < hi {
+				m := lo + (hi-lo)/2
+				if runs[m].x1 <= x {
+					lo = m + 1
+				} else {
+					hi = m
+				}
+			}
+			return lo
+		}
+		for a := rowStart[ra]; a < aEnd; a++ {
+			for _, x := range [2]int32{runs[a].x0 - 1, runs[a].x1} {
+				if x < 0 || int(x) >= nx {
+					continue
+				}
+				if b := find(x); cls(a, ra) == cls(b, rb) {
+					chkUnion(parent, a, b)
+				}
 			}
 		}
 	}
@@ -113,20 +141,20 @@ func MaskComponents(g masks.Grid, solid []bool, c Connectivity) *Components {
 			r := j + ny*k
 			if c == FaceConnected {
 				if j > 0 {
-					merge(r, r-1, 0)
+					merge(r, r-1, false)
 				}
 				if k > 0 {
-					merge(r, r-ny, 0)
+					merge(r, r-ny, false)
 				}
 				continue
 			}
 			if j > 0 {
-				merge(r, r-1, 1)
+				merge(r, r-1, true)
 			}
 			if k > 0 {
 				for dj := -1; dj <= 1; dj++ {
 					if jj := j + dj; jj >= 0 && jj < ny {
-						merge(r, jj+ny*(k-1), 1)
+						merge(r, jj+ny*(k-1), true)
 					}
 				}
 			}
@@ -196,6 +224,9 @@ type ComponentReport struct {
 	// differently (solid vs fluid); they are left out of the analysis.
 	// With a sharp indicator it is zero up to centres lying on the surface.
 	Disagree int
+	// Unresolved counts the disagreeing cells no face neighbour could lend
+	// a label to (see CheckComponents); they are left out.
+	Unresolved int
 	// LostBodies are solid labels with no cell centre: bodies smaller than
 	// the grid resolves. LostCavities likewise for closed fluid regions.
 	LostBodies, LostCavities []int32
@@ -205,7 +236,9 @@ type ComponentReport struct {
 // classification, connectivity c) with the exact regions in lab: a fluid
 // component holding cells of two exact fluid regions is a leak, an exact
 // body spread over several solid components is broken, a solid component
-// holding two bodies is a merge. Cost: linear in cells for the components
+// holding two bodies is a merge. A cell whose mask class differs from its
+// exact label's (its centre lies on the surface, within rounding) takes the
+// label of a face neighbour that agrees (Disagree, Unresolved). Cost: linear in cells for the components
 // and the label census; the neighbour scan that locates leaks and merges
 // runs only when there is one (27 neighbours per cell at most).
 func CheckComponents(ctx context.Context, m *masks.Mask, lab *Labels, c Connectivity) (*ComponentReport, error) {
@@ -233,9 +266,11 @@ func CheckComponents(ctx context.Context, m *masks.Mask, lab *Labels, c Connecti
 	type lc struct{ l, c int32 }
 	seen := map[lc]int{}
 	prev, cnt := lc{-1, -1}, 0
-	for i, l := range lab.Cell {
-		if solid[i] != lab.IsSolid(l) {
-			rep.Disagree++
+	cell, disagree := leakEffective(g, lab, solid)
+	rep.Disagree = disagree
+	for i, l := range cell {
+		if l < 0 {
+			rep.Unresolved++
 			continue
 		}
 		if k := (lc{l, comps.Of[i]}); k != prev {
@@ -288,15 +323,52 @@ func CheckComponents(ctx context.Context, m *masks.Mask, lab *Labels, c Connecti
 		}
 	}
 	if mixed {
-		leakPairs(g, lab, solid, c, rep)
+		leakPairs(g, lab, cell, solid, c, rep)
 	}
 	return rep, nil
+}
+
+// leakEffective returns the exact labels to hold the mask against. A cell
+// the mask classifies against its exact label almost always has its centre
+// on (within rounding of) the surface, where the two classifications are
+// equally right; it takes the label of its first face neighbour (-x, +x,
+// -y, +y, -z, +z) whose exact class matches the cell's mask class and that
+// neighbour's own mask class, and -1 (left out) when none does. disagree
+// counts all such cells.
+func leakEffective(g masks.Grid, lab *Labels, solid []bool) (cell []int32, disagree int) {
+	cell = lab.Cell
+	stride := [3]int{1, g.Cells[0], g.Cells[0] * g.Cells[1]}
+	for i, l := range lab.Cell {
+		if solid[i] == lab.IsSolid(l) {
+			continue
+		}
+		if disagree == 0 {
+			cell = slices.Clone(lab.Cell)
+		}
+		disagree++
+		pos := [3]int{i % g.Cells[0], (i / g.Cells[0]) % g.Cells[1], i / stride[2]}
+		cell[i] = -1
+	search:
+		for a := range g.Dim {
+			for _, d := range [2]int{-1, 1} {
+				if p := pos[a] + d; p < 0 || p >= g.Cells[a] {
+					continue
+				}
+				n := i + d*stride[a]
+				if ln := lab.Cell[n]; solid[n] == solid[i] && lab.IsSolid(ln) == solid[i] {
+					cell[i] = ln
+					break search
+				}
+			}
+		}
+	}
+	return cell, disagree
 }
 
 // leakPairs scans neighbouring cell pairs for two different exact labels of
 // the same class that the mask puts side by side, and records leaks (fluid)
 // and merges (solid) with the first such pair's midpoint.
-func leakPairs(g masks.Grid, lab *Labels, solid []bool, c Connectivity, rep *ComponentReport) {
+func leakPairs(g masks.Grid, lab *Labels, cell []int32, solid []bool, c Connectivity, rep *ComponentReport) {
 	var offs [][3]int
 	for dk := 0; dk <= 1; dk++ {
 		for dj := -1; dj <= 1; dj++ {
@@ -327,8 +399,8 @@ func leakPairs(g masks.Grid, lab *Labels, solid []bool, c Connectivity, rep *Com
 		for j := range ny {
 			for i := range nx {
 				ci := g.Index(i, j, k)
-				la := lab.Cell[ci]
-				if solid[ci] != lab.IsSolid(la) {
+				la := cell[ci]
+				if la < 0 {
 					continue
 				}
 				for _, o := range offs {
@@ -337,8 +409,8 @@ func leakPairs(g masks.Grid, lab *Labels, solid []bool, c Connectivity, rep *Com
 						continue
 					}
 					cj := g.Index(ii, jj, kk)
-					lb := lab.Cell[cj]
-					if lb == la || solid[cj] != solid[ci] || solid[cj] != lab.IsSolid(lb) {
+					lb := cell[cj]
+					if lb < 0 || lb == la || solid[cj] != solid[ci] {
 						continue
 					}
 					key := pk{min(la, lb), max(la, lb)}
