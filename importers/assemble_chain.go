@@ -142,7 +142,7 @@ func (s *asmState) chain(pieces []asmPiece, closed []asmLoop) []asmLoop {
 			continue
 		}
 		if deg[r] >= 3 && r == e {
-			s.reportBranch(branch[int32(r)], ends, pieces)
+			s.reportBranch(branch[int32(r)], ends, root, pieces)
 		}
 		if !visited[e/2] {
 			walk(e)
@@ -176,7 +176,7 @@ func (s *asmState) chain(pieces []asmPiece, closed []asmLoop) []asmLoop {
 
 // reportBranch reports a cluster where three or more ends meet; members
 // are its ends in increasing order.
-func (s *asmState) reportBranch(members []int32, ends []r2.Vec, pieces []asmPiece) {
+func (s *asmState) reportBranch(members []int32, ends []r2.Vec, root []int32, pieces []asmPiece) {
 	var who []string
 	for _, e := range members[:min(len(members), 6)] {
 		who = append(who, s.describe(int(pieces[e/2].ref)))
@@ -184,6 +184,13 @@ func (s *asmState) reportBranch(members []int32, ends []r2.Vec, pieces []asmPiec
 	detail := fmt.Sprintf("%d ends meet: %s", len(members), strings.Join(who, ", "))
 	if len(members) > len(who) {
 		detail += ", ..."
+	}
+	for _, e := range members {
+		if e%2 == 0 && root[e+1] == root[e] { // both ends of one piece in this joint
+			detail += fmt.Sprintf("; %s is shorter than the join tolerance %s, which merges its ends (lower the tolerance)",
+				s.describe(int(pieces[e/2].ref)), asmLength(s.tol))
+			break
+		}
 	}
 	s.problem(ProblemBranch, ends[members[0]], int(pieces[members[0]/2].ref), detail)
 }
