@@ -104,7 +104,10 @@ func (r *AssemblyReport) Fatal() *Problem {
 //
 // For every face of the loop arrangement the winding number of each fill
 // group (drawing and Polyline.Group) decides solidity by that group's rule,
-// and a point is solid when any group makes it solid (union). A loop whose
+// and a point is solid when an odd number of groups make it solid: separate
+// shapes nest like the loops of a DXF drawing, so a closed shape drawn inside
+// a solid is a hole (a tube's bore drawn as its own circle inside the tube's
+// outer circle) and a shape inside a hole is solid again. A loop whose
 // two sides are both solid or both fluid is dropped with a warning; every
 // other loop is oriented with solid on its left, so the Outline's winding
 // number is 1 in solid and 0 in fluid.

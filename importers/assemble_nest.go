@@ -64,7 +64,8 @@ func asmInside(a, b *asmLoop) bool {
 // kept loops in their input order.
 //
 // Solidity follows the winding numbers of each fill group (SVG 1.1 section
-// 11.4, fill-rule), united across groups, in one depth-first walk of the
+// 11.4, fill-rule), combined across groups by parity (see Assemble), in one
+// depth-first walk of the
 // tree: O(loops) after asmParents.
 func (s *asmState) nest(loops []asmLoop) []asmLoop {
 	n := len(loops)
@@ -109,7 +110,7 @@ func (s *asmState) nest(loops []asmLoop) []asmLoop {
 				solidGroups--
 			}
 		}
-		inside := solidGroups > 0
+		inside := solidGroups%2 == 1
 		if inside != outside {
 			keep[i] = true
 			if (l.area > 0) != inside { // solid on the left: CCW around solid, CW around fluid
