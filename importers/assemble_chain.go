@@ -160,7 +160,7 @@ func (s *asmState) chain(pieces []asmPiece, closed []asmLoop) []asmLoop {
 		}
 		cur.pts = cur.pts[:len(cur.pts)-1] // the last point is the first again
 		for _, rf := range cur.ref {
-			if s.refs[rf].group != cur.group {
+			if g := s.refs[rf].group; g != cur.group && s.rules[g] != s.rules[cur.group] {
 				mixed++
 				break
 			}
@@ -168,7 +168,7 @@ func (s *asmState) chain(pieces []asmPiece, closed []asmLoop) []asmLoop {
 		loops = append(loops, asmClean(cur))
 	}
 	if mixed > 0 {
-		s.warnings = append(s.warnings, fmt.Sprintf("%d chained loops join pieces of different fill groups; each takes the fill rule of its first piece", mixed))
+		s.warnings = append(s.warnings, fmt.Sprintf("%d chained loops join pieces whose fill rules differ; each takes the fill rule of its first piece", mixed))
 	}
 	s.reportOpenEnds(ends, deg, root, pieces, closed)
 	return loops
