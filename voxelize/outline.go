@@ -77,10 +77,11 @@ const outlineBandRows = 16
 // Cost: O(cells + E + pieces + band cells) with E edges; the rows are split
 // into fixed bands of 16 over opts.workers() goroutines, except the label
 // sweep over the blocks, which is serial (1/16 of the cells). A 2048x2048
-// grid over 20,000 edges costs about 0.13-0.17 s of CPU time for all fields
-// (about 0.03 s for the fractions alone), half that in wall time on two idle
-// cores. The result is bit-for-bit the same for any worker count. A
-// cancelled ctx stops the work between bands and returns ctx.Err().
+// grid over 20,000 edges took 0.08-0.15 s for all fields (0.13-0.17 s of CPU
+// time) and 0.02-0.05 s for the fractions alone on the 2-core development
+// machine while shared (BenchmarkOutline, BenchmarkOutlineFractions). The
+// result is bit-for-bit the same for any worker count. A cancelled ctx stops
+// the work between bands and returns ctx.Err().
 func Outline(ctx context.Context, o *importers.Outline, g masks.Grid, opts Options) (*masks.Mask, error) {
 	if err := ctx.Err(); err != nil {
 		return nil, err
