@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"slices"
 	"strings"
 
 	"gonum.org/v1/gonum/spatial/r2"
@@ -108,23 +109,28 @@ func ReadSVG(r io.Reader, name string, opts ReadOptions) (*Drawing, error) {
 	return d, nil
 }
 
-// svgSkippedText lists skipped element counts in a fixed order.
+// svgSkippedText lists skipped element counts in a fixed order: at most
+// svgMaxSkippedListed kinds, names shortened, so that a file of many
+// invented element names gives a short message in n log n time.
 func svgSkippedText(m map[string]int) string {
 	keys := make([]string, 0, len(m))
 	for k := range m {
 		keys = append(keys, k)
 	}
-	for i := 1; i < len(keys); i++ { // insertion sort: few keys
-		for j := i; j > 0 && keys[j] < keys[j-1]; j-- {
-			keys[j], keys[j-1] = keys[j-1], keys[j]
-		}
-	}
-	parts := make([]string, len(keys))
+	slices.Sort(keys)
+	parts := make([]string, 0, min(len(keys), svgMaxSkippedListed)+1)
 	for i, k := range keys {
-		parts[i] = fmt.Sprintf("%s %d", k, m[k])
+		if i == svgMaxSkippedListed {
+			parts = append(parts, fmt.Sprintf("and %d more kinds", len(keys)-i))
+			break
+		}
+		parts = append(parts, fmt.Sprintf("%s %d", svgShort(k), m[k]))
 	}
 	return strings.Join(parts, ", ")
 }
+
+// svgMaxSkippedListed caps the skipped element kinds a message lists.
+const svgMaxSkippedListed = 12
 
 // svgRender walks the document tree and collects polylines.
 type svgRender struct {
