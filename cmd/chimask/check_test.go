@@ -119,7 +119,7 @@ func TestCheckMaskFolder(t *testing.T) {
 			t.Errorf("check %d: --mask %s/%s %g %v, built %s/%s %g %v", i, a.Name, a.Subject, a.Measured, a.Pass, b.Name, b.Subject, b.Measured, b.Pass)
 		}
 	}
-	if fromDir.SpacingSearch != nil {
+	if len(fromDir.SpacingSearch) != 0 {
 		t.Errorf("--no-search still searched: %+v", fromDir.SpacingSearch)
 	}
 }
