@@ -72,6 +72,12 @@ func (j *m3Job) block(b int, s *m3Scratch) {
 		s.d2[c], s.tri[c], s.nearN[c], s.sgn[c], s.conf[c], s.area[c] = init2, -1, 0, 0, 1, 0
 	}
 	res := &j.results[b]
+	if j.binStart[b] == j.binStart[b+1] {
+		// No surface within the band of any cell: one sign for the whole
+		// block, settled from its neighbours after the pass (resolveFar).
+		j.far[b] = true
+		return
+	}
 	for _, t := range j.binTri[j.binStart[b]:j.binStart[b+1]] {
 		j.raster(blk, n, int(t), s)
 	}
@@ -576,3 +582,16 @@ func m3Dist2(p, q r3.Vec) float64 {
 }
 
 func m3Arr(p r3.Vec) [3]float64 { return [3]float64{p.X, p.Y, p.Z} }
+
+// farBlock writes block b, which no surface comes near, with one sign.
+func (j *m3Job) farBlock(b int, s *m3Scratch, sg int8, conf float32) {
+	blk := j.blocks[b]
+	var n [3]int
+	for a := range 3 {
+		n[a] = blk.Hi[a] - blk.Lo[a]
+	}
+	for c := range n[0] * n[1] * n[2] {
+		s.tri[c], s.sgn[c], s.conf[c] = -1, sg, conf
+	}
+	j.write(blk, n, s, &j.results[b])
+}
