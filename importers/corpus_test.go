@@ -328,3 +328,54 @@ func TestCorpusSVG(t *testing.T) {
 		return err
 	})
 }
+
+// corpusSTLBinary returns a binary STL header whose count field says
+// count, followed by body.
+func corpusSTLBinary(count uint32, body []byte) []byte {
+	b := make([]byte, 84, 84+len(body))
+	copy(b, "corpus")
+	b[80], b[81], b[82], b[83] = byte(count), byte(count>>8), byte(count>>16), byte(count>>24)
+	return append(b, body...)
+}
+
+func TestCorpusSTL(t *testing.T) {
+	tenMB := 10 << 20
+	cases := []corpusCase{
+		{name: "empty.stl", want: "empty file, expected STL", offset: -1},
+		{name: "header_only.stl", want: "binary STL needs at least 84", offset: 80},
+		{name: "ascii_endsolid_only.stl", want: "does not begin with \"solid\"", offset: 9},
+		{name: "junk.stl", want: "more than the cap of 50000000", offset: 80},
+		{name: "count_1e9.stl", want: "promises 1000000000 triangles, more than the cap", offset: 80},
+		{name: "count_short.stl", want: "promises 12 triangles (684 bytes), file has 284 bytes", offset: 80},
+		{name: "count_zero.stl", want: "binary STL with no facets", offset: 80},
+		{name: "binary_nan.stl", want: "x = NaN is not a finite coordinate", offset: 158},
+		{name: "binary_inf.stl", want: "x = +Inf is not a finite coordinate", offset: 246},
+		{name: "binary_huge.stl", want: "x = 3e+38 is not a finite coordinate below 1e+12 m", offset: 146},
+		{name: "utf16_ascii.stl", want: "promises 2097266 triangles (104863384 bytes), file has 976 bytes", offset: 80},
+		{name: "bom_ascii.stl", want: "more than the cap", offset: 80},
+		{name: "ascii_truncated.stl", want: "file ends, expected \"vertex\" or \"endloop\"", line: 14},
+		{name: "ascii_nan.stl", want: `found "nan", expected a finite number`, line: 12},
+		{name: "ascii_inf.stl", want: `found "inf", expected a finite number`, line: 25},
+		{name: "ascii_huge.stl", want: "coordinate 1e+297 m is beyond 1e+12 m", line: 11},
+		{name: "ascii_bad_number.stl", want: `found "zero", expected a finite number`, line: 5},
+		{name: "ascii_four_vertices.stl", want: "more than 3 vertices", line: 7},
+		{name: "ascii_two_vertices.stl", want: "facet has 2 vertices, expected 3", line: 6},
+		{name: "ascii_missing_loop.stl", want: `found "vertex", expected "normal" or "outer"`, line: 3},
+		{name: "ascii_no_facets.stl", want: "STL with no facets", line: 1},
+		{name: "solid_then_junk.stl", want: `expected "facet" or "endsolid"`, line: 2},
+		// Generated.
+		{name: "count 40 million in 1 KB", gen: func() []byte { return corpusSTLBinary(40_000_000, make([]byte, 1000)) },
+			want: "promises 40000000 triangles (2000000084 bytes), file has 1084 bytes", offset: 80},
+		{name: "10 MB number", gen: func() []byte {
+			return []byte("solid x\n facet normal 0 0 1\n  outer loop\n   vertex " + strings.Repeat("1", tenMB) + " 0 0\n")
+		}, want: "longer than", line: 4},
+		{name: "10 MB solid name", gen: func() []byte { return []byte("solid " + strings.Repeat("n", tenMB) + "\nendsolid\n") },
+			want: "longer than", line: 1},
+		{name: "10 MB of blanks", gen: func() []byte { return append([]byte("solid x\n"), bytes.Repeat([]byte{' '}, tenMB)...) },
+			want: "longer than", line: 2},
+	}
+	corpusRun(t, "stl", cases, func(data []byte, name string, _ ReadOptions) error {
+		_, err := ReadSTL(bytes.NewReader(data), name, STLOptions{Unit: "mm"})
+		return err
+	})
+}
