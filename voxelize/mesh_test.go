@@ -42,14 +42,15 @@ func TestMeshAlignedBox(t *testing.T) {
 	for _, tc := range []struct {
 		name   string
 		lo, hi r3.Vec
-		h      float64
+		h      [3]float64
 	}{
-		{"off grid lines", r3.Vec{X: 0.13, Y: 0.21, Z: 0.17}, r3.Vec{X: 0.77, Y: 0.58, Z: 0.91}, 0.1},
-		{"on grid lines", r3.Vec{X: 0.2, Y: 0.3, Z: 0.1}, r3.Vec{X: 0.7, Y: 0.6, Z: 0.9}, 0.1},
-		{"thinner than a cell", r3.Vec{X: 0.13, Y: 0.21, Z: 0.42}, r3.Vec{X: 0.77, Y: 0.58, Z: 0.47}, 0.1},
+		{"off grid lines", r3.Vec{X: 0.13, Y: 0.21, Z: 0.17}, r3.Vec{X: 0.77, Y: 0.58, Z: 0.91}, [3]float64{0.1, 0.1, 0.1}},
+		{"on grid lines", r3.Vec{X: 0.2, Y: 0.3, Z: 0.1}, r3.Vec{X: 0.7, Y: 0.6, Z: 0.9}, [3]float64{0.1, 0.1, 0.1}},
+		{"thinner than a cell", r3.Vec{X: 0.13, Y: 0.21, Z: 0.42}, r3.Vec{X: 0.77, Y: 0.58, Z: 0.47}, [3]float64{0.1, 0.1, 0.1}},
+		{"anisotropic cells", r3.Vec{X: 0.13, Y: 0.21, Z: 0.17}, r3.Vec{X: 0.77, Y: 0.38, Z: 1.31}, [3]float64{0.1, 0.05, 0.15}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			g := masks.Grid{Dim: 3, Spacing: [3]float64{tc.h, tc.h, tc.h}, Cells: [3]int{10, 10, 10}}
+			g := masks.Grid{Dim: 3, Spacing: tc.h, Cells: [3]int{10, 10, 10}}
 			mk, rep := m3Run(t, m3TestBox(tc.lo, tc.hi), g, Options{})
 			frac := mk.Field(masks.SolidFraction).F64
 			dens := mk.Field(masks.InterfaceDensity).F32
@@ -60,9 +61,9 @@ func TestMeshAlignedBox(t *testing.T) {
 			for l := range 10 {
 				for k := range 10 {
 					for i := range 10 {
-						x0, y0, z0 := float64(i)*tc.h, float64(k)*tc.h, float64(l)*tc.h
-						want := m3Overlap(x0, x0+tc.h, tc.lo.X, tc.hi.X) * m3Overlap(y0, y0+tc.h, tc.lo.Y, tc.hi.Y) *
-							m3Overlap(z0, z0+tc.h, tc.lo.Z, tc.hi.Z) / (tc.h * tc.h * tc.h)
+						x0, y0, z0 := float64(i)*tc.h[0], float64(k)*tc.h[1], float64(l)*tc.h[2]
+						want := m3Overlap(x0, x0+tc.h[0], tc.lo.X, tc.hi.X) * m3Overlap(y0, y0+tc.h[1], tc.lo.Y, tc.hi.Y) *
+							m3Overlap(z0, z0+tc.h[2], tc.lo.Z, tc.hi.Z) / g.CellVolume()
 						gi := g.Index(i, k, l)
 						if math.Abs(frac[gi]-want) > 1e-12 {
 							t.Fatalf("solid_fraction(%d,%d,%d) = %.15g, want %.15g ± 1e-12", i, k, l, frac[gi], want)
@@ -82,6 +83,9 @@ func TestMeshAlignedBox(t *testing.T) {
 			// float32 densities: relative round-off 6e-8 per cell.
 			if got := sumA * cv; math.Abs(got-wantA) > 1e-6*wantA {
 				t.Errorf("area = %.10g, want %.10g ± 1e-6 relative", got, wantA)
+			}
+			if math.Abs(rep.Area-wantA) > 1e-12 {
+				t.Errorf("report area = %.15g, want %.15g ± 1e-12", rep.Area, wantA)
 			}
 			if rep.SignMethod != SignPseudonormal {
 				t.Errorf("SignMethod = %q, want %q", rep.SignMethod, SignPseudonormal)
