@@ -28,6 +28,9 @@ func addGridFlags(c *cobra.Command, f *gridFlags) {
 	fl.IntVar(&f.Workers, "workers", 0, "worker goroutines (0 = all cores); results do not depend on it")
 	fl.StringVar(&f.Out, "out", "", "output folder (default: the scene's [output] folder, or <name>-mask)")
 	fl.StringSliceVar(&f.Formats, "format", nil, "output formats, repeatable: vti, npy, zarr (default vti and npy)")
+	fl.BoolVar(&f.NoReport, "no-report", false, "do not write report.html, report.json and the preview PNGs")
+	fl.BoolVar(&f.Quiet, "quiet", false, "no progress display on stderr")
+	fl.Var(repSliceFlag{&f.Slice}, "slice", "3D masks: the z layer (cell index) the report's pictures show (default: the middle one)")
 }
 
 func newBuildCmd(s *streams) *cobra.Command {
@@ -76,11 +79,14 @@ func runBuild(ctx context.Context, s *streams, o buildOptions) error {
 	if err != nil {
 		return err
 	}
-	if err := writeBuilt(b); err != nil {
+	task := progStart(s, o.Grid.Quiet, "writing "+b.OutDir)
+	err = writeBuilt(b)
+	task.done()
+	if err != nil {
 		return err
 	}
 	printSummary(s.out, b)
-	return nil
+	return writeBuiltReport(s, b, o.Grid, nil, nil)
 }
 
 // manifestFor assembles the manifest of a build.

@@ -26,6 +26,10 @@ type gridFlags struct {
 	Workers int
 	Out     string
 	Formats []string
+	// Report flags (report_cmd.go, progress.go).
+	NoReport bool // --no-report: no report.html, report.json, PNGs
+	Quiet    bool // --quiet: no progress display on stderr
+	Slice    int  // --slice: 3D layer for the pictures, stored plus one; 0 = the middle
 }
 
 // built is a finished mask with everything needed to write and report it.
@@ -229,7 +233,9 @@ func (sc *Scene) maskOptions(workers int, perIndex []masks.Surface) voxelize.Opt
 // buildScene reads, grids and voxelizes a scene. It refuses, before
 // allocating, a grid whose fields would not fit in the memory available.
 func buildScene(ctx context.Context, s *streams, sc *Scene, f gridFlags) (*built, error) {
+	task := progStart(s, f.Quiet, "reading geometry")
 	m, g, err := loadAndGrid(ctx, sc)
+	task.done()
 	if err != nil {
 		return nil, err
 	}
@@ -246,6 +252,8 @@ func buildScene(ctx context.Context, s *streams, sc *Scene, f gridFlags) (*built
 	}
 	opts := sc.maskOptions(f.Workers, perIndex)
 	b := &built{Scene: sc, Model: m, Grid: g, PerIndex: perIndex, Options: opts}
+	task = progStart(s, f.Quiet, "voxelizing")
+	defer task.done()
 	if m.Dim == 2 {
 		b.Mask, err = voxelize.Outline(ctx, m.Outline, g, opts)
 	} else {

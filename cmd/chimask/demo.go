@@ -77,6 +77,9 @@ func runDemo(ctx context.Context, s *streams, o demoOptions) error {
 		}
 		fmt.Fprintf(s.out, "== %s (%s)\n", scene, sc.Title)
 		printSummary(s.out, b)
+		if err := writeBuiltReport(s, b, gridFlags{Workers: o.Workers}, nil, nil); err != nil {
+			return err
+		}
 		fmt.Fprintln(s.out)
 		areas = append(areas, solidMeasure(b))
 	}

@@ -95,7 +95,9 @@ func runRadiation(ctx context.Context, s *streams, o radiationOptions) error {
 	if err := writeBuilt(b); err != nil {
 		return err
 	}
+	task := progStart(s, o.Grid.Quiet, "tracing rays")
 	rep, err := radiationReport(ctx, b, o)
+	task.done()
 	if err != nil {
 		return err
 	}
@@ -112,6 +114,9 @@ func runRadiation(ctx context.Context, s *streams, o radiationOptions) error {
 	}
 	printRadiation(s.out, rep, b.Grid.Dim)
 	fmt.Fprintf(s.out, "wrote %s: [%s %s] and the mask\n", b.OutDir, radiationJSON, radiationCSV)
+	if err := writeBuiltReport(s, b, o.Grid, nil, rep); err != nil {
+		return err
+	}
 	if !rep.Pass {
 		return &checkFailedError{msg: "a radiation check failed (see the checks above and radiation.json)"}
 	}
