@@ -32,9 +32,9 @@ const (
 	checkSearchRatio = 1.25 // each candidate cell is this much finer than the previous one
 	checkSearchTries = 6    // candidates at most, besides the grid of the scene
 	// checkSearchCells caps the cells of a candidate grid: at most this
-	// many, or four times the scene's grid if that is more, so the search
-	// never costs much more than the build itself.
-	checkSearchCells = 4_000_000
+	// many, or eight times the scene's grid if that is more, so a search
+	// costs a few builds of the scene at most.
+	checkSearchCells = 8_000_000
 )
 
 func newCheckCmd(s *streams) *cobra.Command {
@@ -217,7 +217,7 @@ func checkSpacingSearch(ctx context.Context, sc *Scene, f gridFlags, b *built, r
 	if !(start > 0) {
 		start = 4 * h0
 	}
-	capCells := max(checkSearchCells, 4*b.Grid.NumCells())
+	capCells := max(checkSearchCells, 8*b.Grid.NumCells())
 	quiet := &streams{in: nil, out: io.Discard, err: io.Discard}
 	best, fail := -1, -1 // indices into trials: the largest passing cell, the finest failing one coarser than it
 	if cur.Pass {
