@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r2"
+	"gonum.org/v1/gonum/spatial/r3"
 
 	"chimask/importers"
 	"chimask/masks"
@@ -208,5 +209,51 @@ func TestCheckComponentsFindsThinPoints(t *testing.T) {
 				t.Errorf("no failing leak or broken check (pass %v)", rep.Pass)
 			}
 		})
+	}
+}
+
+// 3D: two box cavities in a block, 1.4 mm apart; the mask was made as if
+// the wall were not there (one cavity spanning both), so the two cell
+// centres inside the wall are fluid in the mask and solid in the geometry.
+// The leak is found between the two cavities, within a cell of the wall.
+func TestCheckComponents3DLeak(t *testing.T) {
+	v := func(x, y, z float64) r3.Vec { return r3.Vec{X: x * 1e-3, Y: y * 1e-3, Z: z * 1e-3} }
+	exact := &importers.Mesh{Surfaces: []string{"block"}}
+	leakBox(exact, v(0.3, 0.3, 0.3), v(19.7, 11.7, 9.7), true)
+	leakBox(exact, v(2.2, 2.2, 2.2), v(9.3, 9.8, 7.8), false)
+	leakBox(exact, v(10.7, 2.2, 2.2), v(17.8, 9.8, 7.8), false)
+	pierced := &importers.Mesh{Surfaces: []string{"block"}}
+	leakBox(pierced, v(0.3, 0.3, 0.3), v(19.7, 11.7, 9.7), true)
+	leakBox(pierced, v(2.2, 2.2, 2.2), v(17.8, 9.8, 7.8), false)
+	g := masks.Grid{Dim: 3, Spacing: [3]float64{1e-3, 1e-3, 1e-3}, Cells: [3]int{20, 12, 10}}
+	ctx := context.Background()
+	lab, err := MeshLabels(ctx, exact, g)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mlab, err := MeshLabels(ctx, pierced, g)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := &masks.Mask{Grid: g, Fields: masks.NewStandardFields(g)}
+	for i, l := range mlab.Cell {
+		if mlab.IsSolid(l) {
+			m.Field(masks.Indicator).F32[i] = 1
+		}
+	}
+	for _, conn := range []Connectivity{FaceConnected, FullyConnected} {
+		rep, err := CheckComponents(ctx, m, lab, conn)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(rep.Leaks) != 1 || rep.Leaks[0].Regions != [2]int32{2, 3} {
+			t.Fatalf("%v: leaks %+v, want one between cavities 2 and 3", conn, rep.Leaks)
+		}
+		if x := rep.Leaks[0].Location[0]; math.Abs(x-0.010) > 1e-3 {
+			t.Errorf("%v: leak at x = %g m, want within a cell of the wall at 0.010", conn, x)
+		}
+		if rep.Disagree == 0 {
+			t.Errorf("%v: the wall cells should disagree with the exact labels", conn)
+		}
 	}
 }
