@@ -141,7 +141,11 @@ func parseScene(raw []byte, name, dir string) (*Scene, error) {
 			return nil, &importers.InputError{File: name, Line: pe.Position.Line, Offset: -1, What: pe.Message,
 				Hint: "fix the TOML at that line; lengths are numbers in metres or strings such as \"0.5 mm\""}
 		}
-		return nil, &importers.InputError{File: name, Offset: -1, What: err.Error()}
+		// A value of the wrong type is not a ParseError; the decoder
+		// writes its line into the message instead.
+		line, what := sceneTypeErrorLine(err.Error())
+		return nil, &importers.InputError{File: name, Line: line, Offset: -1, What: what,
+			Hint: "give the key a value of the type the README lists (cell counts are whole numbers, lengths numbers or strings such as \"0.5 mm\")"}
 	}
 	if und := md.Undecoded(); len(und) > 0 {
 		k := und[0]
@@ -157,6 +161,9 @@ func parseScene(raw []byte, name, dir string) (*Scene, error) {
 
 // errAt builds an InputError at the line of a key path such as ("surface", 2, "emissivity").
 func (sc *Scene) errAt(what, hint string, key ...any) error {
+	if hint == "" {
+		hint = "fix this value in the scene file; the README lists every key with its range"
+	}
 	return &importers.InputError{File: sc.path, Line: sc.lines.findIndexed(key...), Offset: -1, What: what, Hint: hint}
 }
 
@@ -311,6 +318,31 @@ func (sc *Scene) check() error {
 		}
 	}
 	return nil
+}
+
+// sceneTypeErrorLine splits a decoder message of the form
+// `toml: line 5 (last key "grid.cells"): incompatible types: ...` into the
+// line and the rest; line is 0 when the message has no line.
+func sceneTypeErrorLine(msg string) (int, string) {
+	var line int
+	rest, ok := strings.CutPrefix(msg, "toml: line ")
+	if !ok {
+		return 0, msg
+	}
+	if _, err := fmt.Sscanf(rest, "%d", &line); err != nil || line < 1 {
+		return 0, msg
+	}
+	if i := strings.Index(rest, "): "); i >= 0 {
+		key := ""
+		if j := strings.Index(rest[:i], "(last key "); j >= 0 {
+			key = rest[j+len("(last key ") : i]
+		}
+		rest = rest[i+3:]
+		if key != "" {
+			rest = "key " + key + ": " + rest
+		}
+	}
+	return line, rest
 }
 
 // resolve returns a scene-relative path as a path usable from here.
