@@ -26,7 +26,9 @@ const wallMeshBlock = 2048
 // gathered in block order, so they are bit-identical for any worker count.
 //
 // The mesh is welded first (coordinates within 1e-9 of the bounding-box
-// diagonal merge) so neighbours share vertices. Shells (WidthSample.Part)
+// diagonal merge) so neighbours share vertices, then wound consistently
+// outward with importers.OrientConsistently (as the voxelizer does), so a
+// flipped facet's rays still go into the solid. Shells (WidthSample.Part)
 // are the vertex-connected components of the welded mesh. Corner rule: a
 // ray whose first hit is a triangle sharing a vertex with the sample's
 // triangle measures an acute edge or corner and is left out (Widths.Corner).
@@ -42,7 +44,7 @@ func MeshWidths(ctx context.Context, m *importers.Mesh, spacing float64, seed ui
 	}
 	lo, hi := m.Bounds()
 	diag := r3.Norm(r3.Sub(hi, lo))
-	wm := importers.Weld(m, wallWeldRel*diag)
+	wm, _ := importers.OrientConsistently(importers.Weld(m, wallWeldRel*diag))
 	x := importers.NewMeshIndex(wm)
 	shell := wallShells(wm)
 	eps := wallWeldRel * diag

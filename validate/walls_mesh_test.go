@@ -80,3 +80,23 @@ func TestMeshWidthsWorkers(t *testing.T) {
 		t.Errorf("1 worker: %d walls %d gaps; 3 workers: %d walls %d gaps, or different values", len(a.Walls), len(a.Gaps), len(b.Walls), len(b.Gaps))
 	}
 }
+
+// A facet wound the wrong way does not turn its rays around: the widths
+// are those of the repaired mesh.
+func TestMeshWidthsFlippedFacet(t *testing.T) {
+	m := wallExtruded(t, []importers.Loop{wallRect(0, 0, 0.040, 0.040, true, 0)}, []string{"plate"}, 0, 0.003)
+	bad := *m
+	bad.Triangles = slices.Clone(m.Triangles)
+	bad.Triangles[0][1], bad.Triangles[0][2] = bad.Triangles[0][2], bad.Triangles[0][1]
+	a, err := MeshWidths(context.Background(), m, 0.001, 5, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := MeshWidths(context.Background(), &bad, 0.001, 5, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b.Inconsistent != 0 || len(a.Walls) != len(b.Walls) {
+		t.Errorf("flipped facet: %d inconsistent rays, %d walls vs %d on the clean mesh", b.Inconsistent, len(b.Walls), len(a.Walls))
+	}
+}
