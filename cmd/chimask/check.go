@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"os"
 	"path/filepath"
 	"strings"
 
@@ -87,13 +88,24 @@ check passes, 1 when one fails, 2 on bad input.`,
 // runCheck builds or reads the mask, checks it, searches the spacing and
 // writes check.json.
 func runCheck(ctx context.Context, s *streams, o checkOptions) error {
+	var mask *masks.Mask
+	if o.Mask != "" {
+		var err error
+		if mask, _, err = masks.ReadDir(o.Mask); err != nil {
+			return err
+		}
+		// A drawing given directly takes its cell from the mask.
+		if o.Grid.Cell == "" && o.Grid.Cells == "" && !strings.EqualFold(filepath.Ext(o.Input), ".toml") {
+			o.Grid.Cell = fmt.Sprintf("%.17g", mask.Grid.MinSpacing())
+		}
+	}
 	sc, err := sceneFor(o.Input, o.Grid)
 	if err != nil {
 		return err
 	}
 	var b *built
-	if o.Mask != "" {
-		if b, err = checkReadMask(ctx, s, sc, o); err != nil {
+	if mask != nil {
+		if b, err = checkReadMask(ctx, s, sc, o, mask); err != nil {
 			return err
 		}
 	} else {
@@ -125,12 +137,8 @@ func runCheck(ctx context.Context, s *streams, o checkOptions) error {
 	return nil
 }
 
-// checkReadMask reads a mask folder and the scene's geometry for it.
-func checkReadMask(ctx context.Context, s *streams, sc *Scene, o checkOptions) (*built, error) {
-	mask, _, err := masks.ReadDir(o.Mask)
-	if err != nil {
-		return nil, err
-	}
+// checkReadMask reads the scene's geometry for a mask read from a folder.
+func checkReadMask(ctx context.Context, s *streams, sc *Scene, o checkOptions, mask *masks.Mask) (*built, error) {
 	m, _, err := loadAndGrid(ctx, sc)
 	if err != nil {
 		return nil, err
@@ -155,6 +163,9 @@ func checkReadMask(ctx context.Context, s *streams, sc *Scene, o checkOptions) (
 	out := o.Grid.Out
 	if out == "" {
 		out = o.Mask
+	}
+	if err := os.MkdirAll(out, 0o755); err != nil {
+		return nil, &usageError{msg: fmt.Sprintf("cannot create %s: %v", out, unwrapPath(err)), hint: "choose another --out folder"}
 	}
 	return &built{Scene: sc, Model: m, Grid: mask.Grid, Mask: mask, PerIndex: perIndex,
 		Options: sc.maskOptions(o.Grid.Workers, perIndex), OutDir: out}, nil

@@ -122,6 +122,15 @@ func TestCheckMaskFolder(t *testing.T) {
 	if len(fromDir.SpacingSearch) != 0 {
 		t.Errorf("--no-search still searched: %+v", fromDir.SpacingSearch)
 	}
+	// A drawing given directly takes its cell from the mask.
+	dxf := filepath.Join(filepath.Dir(scene), "receiver.dxf")
+	out3 := filepath.Join(t.TempDir(), "m3")
+	if code, _, stderr := runCLI(t, "check", dxf, "--units", "mm", "--mask", dir, "--out", out3, "--no-search"); code != exitOK && code != exitCheckFail || strings.Contains(stderr, "writing") {
+		t.Fatalf("check DRAWING --mask: exit %d: %s", code, stderr)
+	}
+	if r := chkReadReport(t, filepath.Join(out3, checkJSON)); len(r.Checks) == 0 || r.CellM[0] != 0.0005 {
+		t.Errorf("check DRAWING --mask: %d checks on cells %v", len(r.Checks), r.CellM)
+	}
 }
 
 func TestCheckBadInput(t *testing.T) {
