@@ -12,7 +12,8 @@ import (
 // least-squares one published by M. Zucker (2020, "viridis approximation",
 // shadertoy WlfXRN); values from memory, checked in colormap_test.go against
 // the map's published anchor colours #440154, #3b528b, #21918c, #5ec962 and
-// #fde725 at 0, 1/4, 1/2, 3/4 and 1 to within 2/255 per channel.
+// #fde725 (entries 0, 64, 128, 191, 255 of the 256-colour table) to
+// within 5/255 per channel.
 var cmapViridisCoef = [7][3]float64{
 	{0.2777273272234177, 0.005407344544966578, 0.3340998053353061},
 	{0.1050930431085774, 1.404613529898575, 1.384590162594685},

@@ -432,8 +432,7 @@ func repHeatSigma(rad *validate.RadiationReport, blk *validate.RadiationBlock) [
 		}
 	}
 	rng := rand.New(rand.NewPCG(0x9e3779b97f4a7c15, uint64(n))) // fixed: the bars depend only on the inputs
-	var sum, sum2 []float64
-	count := 0
+	var draws [][]float64                                       // per draw: net heats, surfaces then open
 	F := make([][]float64, n)
 	for i := range F {
 		F[i] = make([]float64, len(blk.F[i]))
@@ -460,25 +459,25 @@ func repHeatSigma(rad *validate.RadiationReport, blk *validate.RadiationBlock) [
 		if err != nil {
 			continue
 		}
-		q := append(append([]float64(nil), x.NetHeat...), x.OpenHeat)
-		if sum == nil {
-			sum, sum2 = make([]float64, len(q)), make([]float64, len(q))
-		}
-		for k, v := range q {
-			if k < len(sum) {
-				sum[k] += v
-				sum2[k] += v * v
-			}
-		}
-		count++
+		draws = append(draws, append(append([]float64(nil), x.NetHeat...), x.OpenHeat))
 	}
-	if count < 2 {
+	if len(draws) < 2 {
 		return nil
 	}
-	out := make([]float64, len(sum))
-	for k := range sum {
-		mean := sum[k] / float64(count)
-		out[k] = math.Sqrt(max(sum2[k]/float64(count)-mean*mean, 0) * float64(count) / float64(count-1))
+	// Two passes (mean, then squared deviations): one pass would lose the
+	// spread of nearly equal draws to cancellation.
+	out := make([]float64, len(draws[0]))
+	for k := range out {
+		var mean float64
+		for _, d := range draws {
+			mean += d[k]
+		}
+		mean /= float64(len(draws))
+		var ss float64
+		for _, d := range draws {
+			ss += (d[k] - mean) * (d[k] - mean)
+		}
+		out[k] = math.Sqrt(ss / float64(len(draws)-1))
 	}
 	return out
 }
