@@ -1,0 +1,89 @@
+package masks
+
+import (
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+)
+
+// WriteZarrLayout writes the metadata of a Zarr v2 store for fields on g
+// without any chunk and without the fields' values: .zgroup, every array's
+// .zarray and .zattrs, and, when man is not nil, the group's .zattrs
+// holding the manifest. It is WriteZarrMeta for a build that never holds a
+// whole-grid field (a streaming or rank-parallel build): only each field's
+// Name, Unit, Meaning, DType and Components are read, its slices may be
+// empty. The bytes are those WriteZarrMeta writes for the same fields and
+// opts, so the ranks of a parallel build may each write the layout: every
+// file is renamed into place from a temporary name of its own, and all ranks
+// write identical bytes. A nil man leaves the group's .zattrs alone (the
+// manifest is written once the build is complete).
+func WriteZarrLayout(dir string, g Grid, fields []*Field, man *Manifest, opts ZarrOptions) error {
+	if err := g.Validate(); err != nil {
+		return fmt.Errorf("zarr: %w", err)
+	}
+	chunks, comp, err := zarrSetup(g, opts)
+	if err != nil {
+		return err
+	}
+	seen := map[string]bool{}
+	for _, f := range fields {
+		if f == nil || f.DType.Size() == 0 || f.Components < 1 {
+			return fmt.Errorf("zarr: a field template must give a known dtype and at least one component")
+		}
+		if err := outCheckName(f.Name); err != nil {
+			return fmt.Errorf("zarr: %w", err)
+		}
+		if seen[f.Name] {
+			return fmt.Errorf("zarr: two fields are called %q", f.Name)
+		}
+		seen[f.Name] = true
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	if err := zarrWriteJSON(filepath.Join(dir, ".zgroup"), map[string]int{"zarr_format": 2}); err != nil {
+		return err
+	}
+	if man != nil {
+		if err := outWriteAtomic(filepath.Join(dir, ".zattrs"), false, 1<<16, func(w io.Writer) error { return WriteManifest(w, man) }); err != nil {
+			return err
+		}
+	}
+	dims := []string{"y", "x"}
+	if g.Dim == 3 {
+		dims = []string{"z", "y", "x"}
+	}
+	for _, f := range fields {
+		adir := filepath.Join(dir, f.Name)
+		if err := os.MkdirAll(adir, 0o755); err != nil {
+			return err
+		}
+		meta := zarrArrayMeta{ZarrFormat: 2, Shape: npyShape(g, f.Components), Chunks: append([]int(nil), chunks...),
+			DType: npyDescr(f.DType), Compressor: comp, Order: "C", DimensionSeparator: "."}
+		d := append([]string(nil), dims...)
+		if f.Components > 1 {
+			meta.Chunks = append(meta.Chunks, f.Components)
+			d = append(d, "component")
+		}
+		if err := zarrWriteJSON(filepath.Join(adir, ".zarray"), meta); err != nil {
+			return err
+		}
+		attrs := struct {
+			Dims    []string `json:"_ARRAY_DIMENSIONS"`
+			Unit    string   `json:"unit"`
+			Meaning string   `json:"meaning"`
+		}{d, f.Unit, f.Meaning}
+		if err := zarrWriteJSON(filepath.Join(adir, ".zattrs"), attrs); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// NewManifestFor is NewManifest for a mask whose fields are templates
+// (WriteZarrLayout): the field entries come from names, dtypes and
+// components only.
+func NewManifestFor(g Grid, fields []*Field, surfaces []Surface, materials []Material, p Provenance) *Manifest {
+	return NewManifest(&Mask{Grid: g, Fields: fields, Surfaces: surfaces, Materials: materials}, p)
+}
