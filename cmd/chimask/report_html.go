@@ -16,7 +16,6 @@ import (
 var repFuncs = template.FuncMap{
 	"full":   func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) },
 	"length": formatLength,
-	"zoom":   func(file string) bool { return strings.HasPrefix(file, "report_zoom_") },
 	"g4":     func(v float64) string { return fmt.Sprintf("%.4g", v) },
 	"qty":    repQty,
 	"place": func(p []float64) string {
@@ -80,6 +79,8 @@ figcaption { font-size: 13.5px; color: #333; max-width: 900px; }
 .zooms figure { margin: 0; width: 342px; }
 code, .hash { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-size: 12px; word-break: break-all; }
 .note { color: #444; font-size: 13px; }
+ul.fails { margin: 4px 0 10px; padding-left: 22px; }
+ul.fails li { margin: 2px 0; }
 </style>
 </head>
 <body>
@@ -93,7 +94,25 @@ code, .hash { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; fon
 {{- with .Check}}{{if gt .RecommendedCellM 0.0}}
 <p class="summary">Recommended cell size: <b data-k="check.recommended_cell_m" data-v="{{full .RecommendedCellM}}">{{length .RecommendedCellM}}</b>{{if .Limiting}}, limited by {{.Limiting}}{{end}}.</p>
 {{- else}}<p class="summary">No recommended cell size{{if .SpacingSearch}}: no cell of the search passed every check{{else}} (the spacing search did not run){{end}}.</p>{{end}}{{end}}
+{{- with .Check}}{{if not .Pass}}
+<h3>Failed checks</h3>
+<ul class="fails">
+{{- range $i, $c := .Checks}}{{if not $c.Pass}}
+<li><b>{{$c.Name}}</b>, {{$c.Subject}}: {{qty $c.Measured $c.Unit}} against {{qty $c.Threshold $c.Unit}}{{if gt $c.Cells 0.0}} ({{g4 $c.Cells}} cells){{end}}{{with $.FailNumber $i}} &mdash; ring {{.}} on the pictures{{end}}</li>
+{{- end}}{{end}}
+</ul>{{end}}{{end}}
+{{- with .Radiation}}{{if not .Pass}}
+<h3>Failed radiation checks</h3>
+<ul class="fails">
+{{- range .Checks}}{{if not .Pass}}<li><b>{{.Name}}</b>: {{g4 .Value}} against a limit of {{g4 .Limit}}</li>{{end}}{{end}}
+</ul>{{end}}{{end}}
 <p class="caution">{{.Caution}}</p>
+
+<h2>Mask</h2>
+<p class="note">Outline drawn: {{.Outline}}.</p>
+{{- with .Pic "report_fraction.png"}}{{template "fig" .}}{{end}}
+{{- with .Pic "report_surfaces.png"}}{{template "fig" .}}{{end}}
+{{- with .Pic "report_normals.png"}}{{template "fig" .}}{{end}}
 
 <h2>Scene</h2>
 <table>
@@ -129,11 +148,6 @@ code, .hash { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; fon
 {{- end}}
 </table>
 
-<h2>Pictures</h2>
-<p class="note">Outline drawn: {{.Outline}}.</p>
-{{- range .Pictures}}{{if not (zoom .File)}}
-<figure id="{{.File}}"><img src="{{src .}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Title}}"><figcaption><b>{{.Title}}.</b> {{.Caption}}</figcaption></figure>
-{{- end}}{{end}}
 
 {{- with .Check}}
 <h2>Checks</h2>
@@ -155,6 +169,7 @@ code, .hash { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; fon
 <figure><img src="{{src .}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Title}}"><figcaption>{{.Caption}}</figcaption></figure>
 {{- end}}{{end}}{{end}}
 </div>{{end}}
+{{- with $.Pic "report_thickness.png"}}{{template "fig" .}}{{end}}
 {{- if .SpacingSearch}}
 <h3>Spacing search</h3>
 <table>
@@ -168,6 +183,7 @@ code, .hash { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; fon
 <td class="note">{{join $t.Failed "; "}}</td></tr>
 {{- end}}
 </table>{{end}}
+{{- with $.Pic "report_convergence.png"}}{{template "fig" .}}{{end}}
 {{- if .Staircase}}
 <h3>Staircase measure</h3>
 <p class="note">Cell-face (staircase) length or area of each surface against the exact one; it tends to 4/&pi; = 1.273 in 2D and 3/2 in 3D on curved surfaces, whatever the cell, which is why solvers need the fraction and normals rather than the blocks.</p>
@@ -183,6 +199,8 @@ code, .hash { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; fon
 {{- with .Radiation}}
 <h2>Radiation</h2>
 <p class="note">{{.Rays}} rays per surface, seed {{.Seed}}. Heat in {{.Unit}}, positive for a surface that loses heat. Uncertainty: {{.ErrorBar}}.</p>
+{{- with $.Pic "report_view_factors.png"}}{{template "fig" .}}{{end}}
+{{- with $.Pic "report_net_heat.png"}}{{template "fig" .}}{{end}}
 <table>
 <tr><th>surface</th><th>emissivity</th><th>T [K]</th><th>mask</th><th>&plusmn;</th><th>geometry</th><th>&plusmn;</th><th>difference</th></tr>
 {{- range $i, $h := .Heat}}
@@ -214,7 +232,33 @@ code, .hash { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; fon
 </main>
 </body>
 </html>
+{{define "fig"}}<figure id="{{.File}}"><img src="{{src .}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Title}}"><figcaption><b>{{.Title}}.</b> {{.Caption}}</figcaption></figure>{{end}}
 `))
+
+// Pic returns the picture written to file, or nil; the template places
+// each picture in its section with it.
+func (r *repReport) Pic(file string) *repPicture {
+	for i := range r.Pictures {
+		if r.Pictures[i].File == file {
+			return &r.Pictures[i]
+		}
+	}
+	return nil
+}
+
+// FailNumber returns the ring number of check i on the pictures, 0 when it
+// has none.
+func (r *repReport) FailNumber(i int) int {
+	if r.Check == nil {
+		return 0
+	}
+	for _, f := range r.Check.Failures {
+		if f.Check == i {
+			return f.N
+		}
+	}
+	return 0
+}
 
 // writeHTML renders report.html.
 func (r *repReport) writeHTML(w io.Writer) error {
