@@ -132,6 +132,9 @@ func radiationReport(ctx context.Context, b *built, o radiationOptions) (*valida
 	if ro.RaysPerSurface == 0 {
 		ro.RaysPerSurface = defaultRays
 	}
+	if err := guardRays(ro.RaysPerSurface, len(b.PerIndex)); err != nil {
+		return nil, err
+	}
 	if ro.Seed == 0 && b.Scene.Radiation.Seed != nil {
 		ro.Seed = *b.Scene.Radiation.Seed
 	}
