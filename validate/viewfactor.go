@@ -37,6 +37,11 @@ type RayOptions struct {
 	// MaskHits chooses how MaskViewFactors decides where a ray strikes the
 	// mask; the geometry estimators ignore it.
 	MaskHits MaskHits
+	// Progress, when set, may be called with the rays traced so far and
+	// the total, from any goroutine, so that a command can show a progress
+	// bar. It must be cheap and safe for concurrent use; it never changes
+	// the result. Nil means no reports.
+	Progress func(done, total int64)
 }
 
 // MaskHits names the two ways a ray marched through a mask strikes solid.

@@ -25,6 +25,12 @@ type Options struct {
 	// Emissivity, WallTemperature and MaterialID tag the cells nearest to it.
 	// Nil or short means id index+1, emissivity 1, no temperature, no material.
 	Surfaces []masks.Surface
+	// Progress, when set, may be called with the work done so far and the
+	// total (in units the voxelizer chooses, e.g. cells or blocks), from
+	// any goroutine, so that a command can show a progress bar. It must be
+	// cheap and safe for concurrent use; it never changes the result. Nil
+	// means no reports.
+	Progress func(done, total int64)
 }
 
 func (o Options) workers() int {

@@ -254,6 +254,8 @@ func buildScene(ctx context.Context, s *streams, sc *Scene, f gridFlags) (*built
 	b := &built{Scene: sc, Model: m, Grid: g, PerIndex: perIndex, Options: opts}
 	task = progStart(s, f.Quiet, "voxelizing")
 	defer task.done()
+	b.Options.Progress = task.callback()
+	opts.Progress = b.Options.Progress
 	if m.Dim == 2 {
 		b.Mask, err = voxelize.Outline(ctx, m.Outline, g, opts)
 	} else {

@@ -21,6 +21,8 @@ type radiationOptions struct {
 	Rays    int     // rays per surface; 0 = the scene's, else 200000
 	Seed    uint64  // 0 = the scene's, else 1
 	Ambient float64 // K; NaN = the scene's, else 300
+
+	progress func(done, total int64) // ray-tracing progress (progress.go); nil: none
 }
 
 // Defaults of the radiation check.
@@ -96,6 +98,7 @@ func runRadiation(ctx context.Context, s *streams, o radiationOptions) error {
 		return err
 	}
 	task := progStart(s, o.Grid.Quiet, "tracing rays")
+	o.progress = task.callback()
 	rep, err := radiationReport(ctx, b, o)
 	task.done()
 	if err != nil {
@@ -125,7 +128,7 @@ func runRadiation(ctx context.Context, s *streams, o radiationOptions) error {
 
 // radiationReport runs both estimators on a built mask.
 func radiationReport(ctx context.Context, b *built, o radiationOptions) (*validate.RadiationReport, error) {
-	ro := validate.RayOptions{RaysPerSurface: o.Rays, Seed: o.Seed, Workers: o.Grid.Workers}
+	ro := validate.RayOptions{RaysPerSurface: o.Rays, Seed: o.Seed, Workers: o.Grid.Workers, Progress: o.progress}
 	if ro.RaysPerSurface == 0 {
 		ro.RaysPerSurface = b.Scene.Radiation.Rays
 	}
