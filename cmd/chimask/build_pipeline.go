@@ -242,7 +242,11 @@ func buildScene(ctx context.Context, s *streams, sc *Scene, f gridFlags) (*built
 	for _, w := range m.Warnings {
 		fmt.Fprintf(s.err, "warning: %s\n", w)
 	}
-	if need, have := estimateBuildBytes(g), availableMemory(); have > 0 && need > have*8/10 {
+	need := estimateBuildBytes(g)
+	if m.Dim == 3 {
+		need = voxelize.EstimateMeshMemory(g, len(m.Mesh.Triangles)) + int64(g.NumCells())*writerBytesPerCell
+	}
+	if have := availableMemory(); have > 0 && need > have*8/10 {
 		return nil, sc.errAt(fmt.Sprintf("the grid of %d x %d x %d cells needs about %s, more than the %s of memory available", g.Cells[0], g.Cells[1], g.Cells[2], formatBytes(need), formatBytes(have)),
 			"use a coarser cell, a smaller region (--bounds), or chunked output (--format zarr)", "grid")
 	}

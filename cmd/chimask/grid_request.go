@@ -90,6 +90,11 @@ func bytesPerCell(dim int) int64 {
 	return 80
 }
 
+// writerBytesPerCell is what the writers add on top of a 3D build's fields
+// at their peak: one float64 field's worth of encoding buffers and page
+// cache pressure, rounded up (measured on the demo, not a bound).
+const writerBytesPerCell = 8
+
 // estimateBuildBytes returns the memory a dense build of g needs, in bytes.
 func estimateBuildBytes(g masks.Grid) int64 {
 	return int64(g.NumCells()) * bytesPerCell(g.Dim)
