@@ -84,7 +84,7 @@ func CheckOutline(ctx context.Context, o *importers.Outline, m *masks.Mask, opts
 	if m.Grid.Dim != 2 {
 		return nil, fmt.Errorf("validate: CheckOutline needs a 2D mask, got %dD", m.Grid.Dim)
 	}
-	w, err := OutlineWidths(ctx, o, chkMaxSpacing(m.Grid)/2)
+	w, err := OutlineWidths(ctx, o, chkMaxSpacing(m.Grid)/2, opts.Workers)
 	if err != nil {
 		return nil, err
 	}

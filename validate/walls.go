@@ -58,9 +58,11 @@ type Widths struct {
 // right: their tip is genuinely thin.
 //
 // The rays use a bounding-volume hierarchy over the edges, so the cost is
-// O(E log E) to build plus O(log E) per ray for E edges. An empty outline or
-// spacing <= 0 returns empty widths.
-func OutlineWidths(ctx context.Context, o *importers.Outline, spacing float64) (*Widths, error) {
+// O(E log E) to build plus O(log E) per ray for E edges, split over workers
+// goroutines (<= 0: all cores) in fixed blocks of 1024 edges gathered in
+// order, so the samples do not depend on the worker count. An empty outline
+// or spacing <= 0 returns empty widths.
+func OutlineWidths(ctx context.Context, o *importers.Outline, spacing float64, workers int) (*Widths, error) {
 	w := &Widths{}
 	if o == nil || !(spacing > 0) || math.IsInf(spacing, 0) {
 		return w, nil
@@ -72,22 +74,32 @@ func OutlineWidths(ctx context.Context, o *importers.Outline, spacing float64) (
 	lo, hi := o.Bounds()
 	diag := math.Hypot(hi.X-lo.X, hi.Y-lo.Y)
 	tmin := wallRayStart * diag
+	// Fixed blocks of edges in loop order; results gathered in block order.
+	type edgeRef struct{ loop, edge int }
+	var edges []edgeRef
 	for li, l := range o.Loops {
-		if err := ctx.Err(); err != nil {
-			return nil, err
-		}
-		n := len(l.Points)
-		if n < 3 {
+		if len(l.Points) < 3 {
 			continue
 		}
-		for i := range n {
+		for i := range l.Points {
+			edges = append(edges, edgeRef{li, i})
+		}
+	}
+	nb := (len(edges) + wallEdgeBlock - 1) / wallEdgeBlock
+	parts := make([]Widths, nb)
+	err := chkParallel(ctx, nb, workers, func(b int) {
+		out := &parts[b]
+		for _, er := range edges[b*wallEdgeBlock : min((b+1)*wallEdgeBlock, len(edges))] {
+			li, i := er.loop, er.edge
+			l := o.Loops[li]
+			n := len(l.Points)
 			p, q := l.Points[i], l.Points[(i+1)%n]
 			e := r2.Sub(q, p)
 			le := r2.Norm(e)
 			if !(le > 0) {
 				continue
 			}
-			out := r2.Vec{X: e.Y / le, Y: -e.X / le} // fluid side
+			fluid := r2.Vec{X: e.Y / le, Y: -e.X / le}
 			surf := 0
 			if i < len(l.Surfaces) {
 				surf = l.Surfaces[i]
@@ -95,44 +107,58 @@ func OutlineWidths(ctx context.Context, o *importers.Outline, spacing float64) (
 			k := int(math.Ceil(le / spacing))
 			for s := range k {
 				pt := r2.Add(p, r2.Scale((float64(s)+0.5)/float64(k), e))
-				w.Points++
+				out.Points++
 				for _, gap := range [2]bool{false, true} {
-					d := out
+					d := fluid
 					if !gap {
-						d = r2.Scale(-1, out)
+						d = r2.Scale(-1, fluid)
 					}
 					t, hit, ok := tree.ray(pt, d, tmin, int32(li), int32(i))
 					if !ok {
 						if gap {
-							w.Open++
+							out.Open++
 						} else {
-							w.Inconsistent++ // a closed loop always has an opposite side
+							out.Inconsistent++ // a closed loop always has an opposite side
 						}
 						continue
 					}
 					hs := &tree.segs[hit]
 					if hs.loop == int32(li) && wallAdjacent(int(hs.edge), i, n) {
-						w.Corner++
+						out.Corner++
 						continue
 					}
 					he := r2.Sub(hs.b, hs.a)
 					hn := r2.Vec{X: he.Y, Y: -he.X}
 					if dn := r2.Dot(d, hn); (gap && dn >= 0) || (!gap && dn <= 0) {
-						w.Inconsistent++
+						out.Inconsistent++
 						continue
 					}
 					smp := WidthSample{Point: [3]float64{pt.X, pt.Y, 0}, Width: t, Surface: surf, Opposite: hs.surf, Part: li}
 					if gap {
-						w.Gaps = append(w.Gaps, smp)
+						out.Gaps = append(out.Gaps, smp)
 					} else {
-						w.Walls = append(w.Walls, smp)
+						out.Walls = append(out.Walls, smp)
 					}
 				}
 			}
 		}
+	})
+	if err != nil {
+		return nil, err
+	}
+	for _, p := range parts {
+		w.Walls = append(w.Walls, p.Walls...)
+		w.Gaps = append(w.Gaps, p.Gaps...)
+		w.Points += p.Points
+		w.Corner += p.Corner
+		w.Open += p.Open
+		w.Inconsistent += p.Inconsistent
 	}
 	return w, nil
 }
+
+// wallEdgeBlock is the number of outline edges per work block.
+const wallEdgeBlock = 1024
 
 // wallRayStart is the smallest ray parameter that counts as a hit, relative
 // to the geometry's diagonal: it drops the sample's own edge and rounding
@@ -238,7 +264,7 @@ func (t *wallSegTree) ray(o, d r2.Vec, tmin float64, loop, edge int32) (float64,
 	for len(stack) > 0 {
 		nd := &t.nodes[stack[len(stack)-1]]
 		stack = stack[:len(stack)-1]
-		if !wallSlab(nd, o, inv, best) {
+		if _, hit := wallSlab(nd, o, inv, best); !hit {
 			continue
 		}
 		if nd.size > 0 {
@@ -263,13 +289,27 @@ func (t *wallSegTree) ray(o, d r2.Vec, tmin float64, loop, edge int32) (float64,
 			}
 			continue
 		}
-		stack = append(stack, nd.first, nd.first+1)
+		// Visit the nearer child first, so the first hit found prunes
+		// the rest early.
+		l, r := nd.first, nd.first+1
+		tl, okl := wallSlab(&t.nodes[l], o, inv, best)
+		tr, okr := wallSlab(&t.nodes[r], o, inv, best)
+		if okl && okr && tr < tl {
+			l, r, okl, okr = r, l, okr, okl
+		}
+		if okr {
+			stack = append(stack, r)
+		}
+		if okl {
+			stack = append(stack, l)
+		}
 	}
 	return best, bestI, bestI >= 0
 }
 
-// wallSlab reports whether the ray meets the node's box for t in [0, tMax].
-func wallSlab(nd *wallSegNode, o r2.Vec, inv [2]float64, tMax float64) bool {
+// wallSlab returns where the ray enters the node's box and whether it does
+// so for some t in [0, tMax] (slab test).
+func wallSlab(nd *wallSegNode, o r2.Vec, inv [2]float64, tMax float64) (float64, bool) {
 	t0, t1 := 0.0, tMax
 	for a, oa := range [2]float64{o.X, o.Y} {
 		ta := (nd.lo[a] - oa) * inv[a]
@@ -284,10 +324,10 @@ func wallSlab(nd *wallSegNode, o r2.Vec, inv [2]float64, tMax float64) bool {
 			t1 = tb
 		}
 		if t0 > t1 {
-			return false
+			return t0, false
 		}
 	}
-	return true
+	return t0, true
 }
 
 // WidthSummary condenses the samples of one surface (or group of surfaces

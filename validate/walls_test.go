@@ -76,7 +76,7 @@ func TestOutlineWidthsAnalytic(t *testing.T) {
 			-1, math.Inf(1), 0, 0, true, true},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			w, err := OutlineWidths(context.Background(), tc.o, 0.00025)
+			w, err := OutlineWidths(context.Background(), tc.o, 0.00025, 2)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -113,7 +113,7 @@ func TestOutlineWidthsSymmetry(t *testing.T) {
 	o := &importers.Outline{Loops: []importers.Loop{
 		wallCircle(r2.Vec{X: 0.1, Y: 0.2}, 0.010, 256, true, 0), wallCircle(r2.Vec{X: 0.1, Y: 0.2}, 0.007, 256, false, 1)},
 		Surfaces: []string{"outer", "bore"}}
-	w, err := OutlineWidths(context.Background(), o, 0.0005)
+	w, err := OutlineWidths(context.Background(), o, 0.0005, 1)
 	if err != nil {
 		t.Fatal(err)
 	}

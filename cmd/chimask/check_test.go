@@ -403,3 +403,36 @@ func BenchmarkCheckVsBuild(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkCheckVsBuild2D is BenchmarkCheckVsBuild for a 2D outline: a
+// plate with 40 round holes on an n^2 grid.
+func BenchmarkCheckVsBuild2D(b *testing.B) {
+	o := &importers.Outline{Surfaces: []string{"plate", "holes"}, Loops: []importers.Loop{chkRect(-0.048, -0.048, 0.048, 0.048, true, 0)}}
+	for i := range 8 {
+		for j := range 5 {
+			o.Loops = append(o.Loops, chkCircle(r2.Vec{X: -0.042 + 0.012*float64(i), Y: -0.036 + 0.018*float64(j)}, 0.004, 400, false, 1))
+		}
+	}
+	for _, n := range []int{1024, 4096} {
+		b.Run(fmt.Sprintf("%d^2", n), func(b *testing.B) {
+			h := 0.1 / float64(n)
+			g := masks.Grid{Dim: 2, Origin: [3]float64{-0.05, -0.05, 0}, Spacing: [3]float64{h, h, 1}, Cells: [3]int{n, n, 1}}
+			var build, check time.Duration
+			for b.Loop() {
+				t0 := time.Now()
+				m, err := voxelize.Outline(context.Background(), o, g, voxelize.Options{})
+				if err != nil {
+					b.Fatal(err)
+				}
+				t1 := time.Now()
+				if _, err := validate.CheckOutline(context.Background(), o, m, validate.CheckOptions{}); err != nil {
+					b.Fatal(err)
+				}
+				build += t1.Sub(t0)
+				check += time.Since(t1)
+			}
+			b.ReportMetric(check.Seconds()/build.Seconds(), "check/build")
+			b.ReportMetric(float64(g.NumCells())*float64(b.N)/check.Seconds(), "cells/s")
+		})
+	}
+}
