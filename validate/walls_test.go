@@ -3,6 +3,7 @@ package validate
 import (
 	"context"
 	"math"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r2"
@@ -132,5 +133,24 @@ func TestOutlineWidthsSymmetry(t *testing.T) {
 		if s.Opposite != wantOpp {
 			t.Errorf("surface id %d: opposite surface index %d, want %d", s.ID, s.Opposite, wantOpp)
 		}
+	}
+}
+
+// Samples must not depend on the number of workers (STYLE.md sec. 6).
+func TestOutlineWidthsWorkers(t *testing.T) {
+	o := &importers.Outline{Surfaces: []string{"plate", "holes"}, Loops: []importers.Loop{wallRect(-0.048, -0.048, 0.048, 0.048, true, 0)}}
+	for i := range 6 {
+		o.Loops = append(o.Loops, wallCircle(r2.Vec{X: -0.04 + 0.015*float64(i), Y: 0.01 * float64(i%2)}, 0.005, 700, false, 1))
+	}
+	a, err := OutlineWidths(context.Background(), o, 0.0002, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := OutlineWidths(context.Background(), o, 0.0002, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Equal(a.Walls, b.Walls) || !slices.Equal(a.Gaps, b.Gaps) || a.Points != b.Points || a.Open != b.Open || a.Corner != b.Corner {
+		t.Errorf("1 worker: %d walls %d gaps; 3 workers: %d walls %d gaps, or different values", len(a.Walls), len(a.Gaps), len(b.Walls), len(b.Gaps))
 	}
 }
