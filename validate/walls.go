@@ -192,8 +192,16 @@ type wallSegTree struct {
 // (common practice, no source).
 const wallLeafSize = 4
 
+// wallPieces is how many pieces the bounding-box diagonal is cut into at
+// most when long edges are split for the tree: one long edge would
+// otherwise stretch a leaf box, and every box above it, across the whole
+// drawing, and every ray would descend there.
+const wallPieces = 512
+
 func newWallSegTree(o *importers.Outline) *wallSegTree {
 	t := &wallSegTree{}
+	lo, hi := o.Bounds()
+	piece := math.Hypot(hi.X-lo.X, hi.Y-lo.Y) / wallPieces
 	for li, l := range o.Loops {
 		n := len(l.Points)
 		if n < 3 {
@@ -204,7 +212,19 @@ func newWallSegTree(o *importers.Outline) *wallSegTree {
 			if i < len(l.Surfaces) {
 				s = l.Surfaces[i]
 			}
-			t.segs = append(t.segs, wallSeg{a: l.Points[i], b: l.Points[(i+1)%n], loop: int32(li), edge: int32(i), surf: s})
+			a, b := l.Points[i], l.Points[(i+1)%n]
+			k := 1
+			if le := r2.Norm(r2.Sub(b, a)); piece > 0 && le > piece {
+				k = min(int(math.Ceil(le/piece)), 1<<16)
+			}
+			for j := range k {
+				pa := r2.Add(a, r2.Scale(float64(j)/float64(k), r2.Sub(b, a)))
+				pb := b
+				if j+1 < k {
+					pb = r2.Add(a, r2.Scale(float64(j+1)/float64(k), r2.Sub(b, a)))
+				}
+				t.segs = append(t.segs, wallSeg{a: pa, b: pb, loop: int32(li), edge: int32(i), surf: s})
+			}
 		}
 	}
 	if len(t.segs) > 0 {
