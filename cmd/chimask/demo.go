@@ -62,6 +62,7 @@ func runDemo(ctx context.Context, s *streams, o demoOptions) error {
 	}
 	fmt.Fprintf(s.out, "chimask demo: cavity receiver cross-section, samples in %s\n\n", o.Out)
 	var areas []float64
+	var reports []string
 	for _, scene := range []string{"receiver.toml", "receiver-svg.toml"} {
 		path := filepath.Join(o.Out, scene)
 		sc, err := sceneFor(path, gridFlags{Workers: o.Workers})
@@ -80,6 +81,7 @@ func runDemo(ctx context.Context, s *streams, o demoOptions) error {
 		if err := writeBuiltReport(s, b, gridFlags{Workers: o.Workers}, nil, nil); err != nil {
 			return err
 		}
+		reports = append(reports, filepath.Join(b.OutDir, reportHTML))
 		fmt.Fprintln(s.out)
 		areas = append(areas, solidMeasure(b))
 	}
@@ -88,5 +90,6 @@ func runDemo(ctx context.Context, s *streams, o demoOptions) error {
 		exact, areas[0]/exact-1, areas[1]/exact-1)
 	fmt.Fprintln(s.out, "\nThe masks and checks support, and do not replace, engineering judgement;")
 	fmt.Fprintln(s.out, "for high-temperature equipment defer to local codes and licensed practice.")
+	fmt.Fprintf(s.out, "\nreport (open it in a browser): %s\n", reports[0])
 	return nil
 }

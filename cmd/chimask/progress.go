@@ -122,7 +122,9 @@ func (t *progTask) done() {
 		return
 	}
 	t.closed = true
-	t.timer.Stop()
+	if t.timer != nil {
+		t.timer.Stop()
+	}
 	if t.bar != nil {
 		_ = t.bar.Finish()
 		_ = t.bar.Clear()
