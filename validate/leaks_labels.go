@@ -149,6 +149,11 @@ func OutlineLabels(ctx context.Context, o *importers.Outline, g masks.Grid) (*La
 // exactly once. The crossings are walked as in OutlineLabels.
 //
 // Solids that share a wall (and so vertices) form one shell and one body.
+// On an open mesh (holes in the surface) the crossing parity along a row
+// can differ from the winding-number sign the voxelizer falls back to;
+// CheckComponents counts such cells as Disagree. Per-cell winding numbers
+// would agree there but cost a tree walk per cell; the row walk costs a
+// few crossings per row.
 // Cost O(T + R + C) for T triangles, R row crossings and C cells, plus the
 // per-row sorts.
 func MeshLabels(ctx context.Context, m *importers.Mesh, g masks.Grid) (*Labels, error) {
