@@ -189,8 +189,13 @@ func chkAssemble(ctx context.Context, m *masks.Mask, lab *Labels, w *Widths, exa
 			w.Points, len(w.Walls), len(w.Gaps), w.Corner, w.Open, w.Inconsistent))
 	}
 	// Leaks, broken and merged bodies.
+	solid, err := MaskSolid(m)
+	if err != nil {
+		return nil, err
+	}
+	cell, disagree := leakEffective(g, lab, solid)
 	for _, conn := range []Connectivity{FaceConnected, FullyConnected} {
-		cr, err := CheckComponents(ctx, m, lab, conn)
+		cr, err := leakCheck(ctx, g, lab, solid, cell, disagree, conn)
 		if err != nil {
 			return nil, err
 		}

@@ -250,6 +250,13 @@ func CheckComponents(ctx context.Context, m *masks.Mask, lab *Labels, c Connecti
 	if err != nil {
 		return nil, err
 	}
+	cell, disagree := leakEffective(g, lab, solid)
+	return leakCheck(ctx, g, lab, solid, cell, disagree, c)
+}
+
+// leakCheck is CheckComponents once the mask classification and the
+// effective labels are known, so several connectivities can share them.
+func leakCheck(ctx context.Context, g masks.Grid, lab *Labels, solid []bool, cell []int32, disagree int, c Connectivity) (*ComponentReport, error) {
 	comps := MaskComponents(g, solid, c)
 	if err := ctx.Err(); err != nil {
 		return nil, err
@@ -266,7 +273,6 @@ func CheckComponents(ctx context.Context, m *masks.Mask, lab *Labels, c Connecti
 	type lc struct{ l, c int32 }
 	seen := map[lc]int{}
 	prev, cnt := lc{-1, -1}, 0
-	cell, disagree := leakEffective(g, lab, solid)
 	rep.Disagree = disagree
 	for i, l := range cell {
 		if l < 0 {
