@@ -92,7 +92,7 @@ func Conservation(m *masks.Mask, lab *Labels, exactSurface map[int]float64) (*Co
 	}
 	cv := g.CellVolume()
 	rep := &ConservationReport{}
-	body := map[int32]float64{}
+	body := make([]float64, len(lab.Depth)+1) // by label
 	nx, ny, nz := g.Cells[0], g.Cells[1], g.Cells[2]
 	kr := 0
 	if g.Dim == 3 {
