@@ -319,6 +319,9 @@ type m3Job struct {
 	results  []m3BlockResult
 	pool     sync.Pool
 	tagTable []masks.Surface // per surface index
+	// outLocal: the bound output slices hold one block, x fastest from
+	// its Lo corner, instead of the whole grid (MeshBlocks' workers).
+	outLocal bool
 }
 
 type m3BlockResult struct {

@@ -362,7 +362,7 @@ func (j *m3Job) write(blk masks.Block, n [3]int, s *m3Scratch, res *m3BlockResul
 	c := 0
 	for l := blk.Lo[2]; l < blk.Hi[2]; l++ {
 		for k := blk.Lo[1]; k < blk.Hi[1]; k++ {
-			gi := j.g.Index(blk.Lo[0], k, l)
+			gi := j.outIndex(blk, n, k, l)
 			for i := blk.Lo[0]; i < blk.Hi[0]; i, c, gi = i+1, c+1, gi+1 {
 				t := s.tri[c]
 				switch {
