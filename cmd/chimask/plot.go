@@ -211,24 +211,25 @@ func plotThickness(c *validate.CheckReport) (*repPicture, error) {
 		p.Title.Text = pvShort(k, 30)
 		p.X.Label.Text = "wall thickness [mm]"
 		p.Y.Label.Text = "samples"
-		h, err := plotter.NewHist(vals, min(30, max(5, len(vals)/10)))
-		if err != nil {
-			return nil, err
-		}
-		h.FillColor = cmapOkabeIto[1]
-		h.LineStyle.Color = color.RGBA{0x30, 0x30, 0x30, 255}
-		p.Add(h)
+		thr := 0.0
 		for _, ck := range c.Checks {
 			if ck.Name == "wall thickness" && ck.Subject == k && ck.Threshold > 0 {
-				var top float64
-				for _, b := range h.Bins {
-					top = max(top, b.Weight)
-				}
-				l, _ := plotter.NewLine(plotter.XYs{{X: ck.Threshold * 1e3, Y: 0}, {X: ck.Threshold * 1e3, Y: top * 1.05}})
-				l.Color, l.Width, l.Dashes = cmapOkabeIto[5], vg.Points(2), []vg.Length{vg.Points(4), vg.Points(2)}
-				p.Add(l)
-				p.X.Min = min(p.X.Min, ck.Threshold*1e3*0.9)
+				thr = ck.Threshold * 1e3
 			}
+		}
+		h := plotHistogram(vals, thr, min(30, max(6, len(vals)/10)))
+		h.FillColor = cmapOkabeIto[1]
+		h.LineStyle.Color = color.RGBA{0x30, 0x30, 0x30, 255}
+		h.LineStyle.Width = vg.Points(0.5)
+		p.Add(h)
+		if thr > 0 {
+			var top float64
+			for _, b := range h.Bins {
+				top = max(top, b.Weight)
+			}
+			l, _ := plotter.NewLine(plotter.XYs{{X: thr, Y: 0}, {X: thr, Y: top * 1.05}})
+			l.Color, l.Width, l.Dashes = cmapOkabeIto[5], vg.Points(2), []vg.Length{vg.Points(4), vg.Points(2)}
+			p.Add(l)
 		}
 		ps = append(ps, p)
 	}
@@ -249,6 +250,34 @@ func plotThickness(c *validate.CheckReport) (*repPicture, error) {
 	img := plotRender(grid, vg.Points(float64(200*cols)), vg.Points(float64(170*rows)))
 	pic, err := repPNG("report_thickness.png", "Wall thickness", "Wall thickness measured across the solid from sample points on each surface (check.json thickness_samples); dashed: the wall-thickness threshold the check applies.", img)
 	return &pic, err
+}
+
+// plotHistogram bins vals into n equal bins over a range that holds every
+// value and the threshold thr (when positive), widened when all values are
+// equal so that the bars keep a visible width.
+func plotHistogram(vals []float64, thr float64, n int) *plotter.Histogram {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, v := range vals {
+		lo, hi = min(lo, v), max(hi, v)
+	}
+	if thr > 0 {
+		lo, hi = min(lo, thr), max(hi, thr)
+	}
+	if w := hi - lo; w <= 1e-9*max(math.Abs(hi), 1e-300) {
+		d := max(0.05*math.Abs(hi), 1e-6)
+		lo, hi = lo-d, hi+d
+	} else {
+		lo, hi = lo-0.02*w, hi+0.02*w
+	}
+	bw := (hi - lo) / float64(n)
+	bins := make([]plotter.HistogramBin, n)
+	for i := range bins {
+		bins[i].Min, bins[i].Max = lo+float64(i)*bw, lo+float64(i+1)*bw
+	}
+	for _, v := range vals {
+		bins[min(n-1, max(0, int((v-lo)/bw)))].Weight++
+	}
+	return &plotter.Histogram{Bins: bins, Width: bw}
 }
 
 // plotGrid is an N x M factor matrix as a heat-map grid, row 0 at the top.
