@@ -2,6 +2,7 @@ package masks
 
 import (
 	"bufio"
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -34,14 +35,29 @@ func WriteFileAtomic(path string, write func(io.Writer) error) error {
 // process; the fsync also protects against a power cut, at about a
 // millisecond per file, which matters for the thousands of Zarr chunks.
 // bufSize 0 hands write the file itself, for callers that write one slice.
-func outWriteAtomic(path string, sync bool, bufSize int, write func(io.Writer) error) (err error) {
+func outWriteAtomic(path string, sync bool, bufSize int, write func(io.Writer) error) error {
+	tmp, err := outWriteTemp(path, sync, bufSize, write)
+	if err != nil {
+		return err
+	}
+	if err := os.Rename(tmp, path); err != nil {
+		os.Remove(tmp)
+		return err
+	}
+	return nil
+}
+
+// outWriteTemp writes what write produces to a new temporary file beside
+// path and returns its name, complete and closed (and synced when sync is
+// set), ready to be renamed over path. On error nothing is left behind.
+func outWriteTemp(path string, sync bool, bufSize int, write func(io.Writer) error) (name string, err error) {
 	dir, base := filepath.Split(path)
 	if dir == "" {
 		dir = "."
 	}
 	tmp, err := os.CreateTemp(dir, "."+base+".tmp-*")
 	if err != nil {
-		return err
+		return "", err
 	}
 	defer func() {
 		if err != nil {
@@ -52,27 +68,56 @@ func outWriteAtomic(path string, sync bool, bufSize int, write func(io.Writer) e
 	if bufSize > 0 {
 		bw := bufio.NewWriterSize(tmp, bufSize)
 		if err = write(bw); err != nil {
-			return err
+			return "", err
 		}
 		err = bw.Flush()
 	} else {
 		err = write(tmp)
 	}
 	if err != nil {
-		return err
+		return "", err
 	}
 	if err = tmp.Chmod(0o644); err != nil {
-		return err
+		return "", err
 	}
 	if sync {
 		if err = tmp.Sync(); err != nil {
-			return err
+			return "", err
 		}
 	}
 	if err = tmp.Close(); err != nil {
-		return err
+		return "", err
 	}
-	return os.Rename(tmp.Name(), path)
+	return tmp.Name(), nil
+}
+
+// outCtxWriter passes writes on in pieces of at most outCtxPiece bytes and
+// stops with ctx.Err() once ctx is cancelled, so that a cancelled run does
+// not finish writing a file of hundreds of megabytes first.
+type outCtxWriter struct {
+	ctx context.Context
+	w   io.Writer
+}
+
+// outCtxPiece is the most written between two looks at the context: 4 MiB,
+// some milliseconds of disk time.
+const outCtxPiece = 4 << 20
+
+func (c outCtxWriter) Write(p []byte) (int, error) {
+	n := 0
+	for len(p) > 0 {
+		if err := c.ctx.Err(); err != nil {
+			return n, err
+		}
+		k := min(len(p), outCtxPiece)
+		m, err := c.w.Write(p[:k])
+		n += m
+		if err != nil {
+			return n, err
+		}
+		p = p[k:]
+	}
+	return n, nil
 }
 
 // outFormats checks formats and returns the set, defaulting to vti and npy.
@@ -108,23 +153,39 @@ func outCheckName(name string) error {
 
 // WriteDir writes a mask into dir (created if missing): one <field>.npy per
 // field (format "npy"), mask.vti ("vti"), mask.zarr ("zarr", with default
-// ZarrOptions) and manifest.json, in that order, each through a temporary
-// file renamed into place. The previous manifest is removed before the
-// first file is written, so a present manifest means every file it names is
-// complete and from the same run; ReadDir refuses a folder without one.
-// formats is a subset of "vti", "npy", "zarr"; nil or empty means vti and
-// npy.
+// ZarrOptions) and manifest.json. It is WriteDirContext with a context that
+// is never cancelled; see there for the rules.
+func WriteDir(dir string, m *Mask, man *Manifest, formats []string) error {
+	return WriteDirContext(context.Background(), dir, m, man, formats)
+}
+
+// WriteDirContext writes a mask into dir (created if missing): one
+// <field>.npy per field (format "npy"), mask.vti ("vti"), mask.zarr
+// ("zarr", with default ZarrOptions) and manifest.json. Every file (and the
+// Zarr store, as a folder) is first written completely under a temporary
+// name in dir; only when all are complete are they renamed into place, the
+// previous manifest removed first and the new one renamed last. A run that
+// fails or is cancelled before that point (a full disk, ctx cancelled by an
+// interrupt, checked between files and every 4 MiB written) removes its
+// temporary files and leaves a previous output in dir exactly as it was;
+// the renames that follow take milliseconds and are not interrupted. While
+// writing, dir holds both outputs, so it needs room for both. A present
+// manifest therefore means every file it names is complete and from the
+// same run; ReadDir refuses a folder without one. formats is a subset of
+// "vti", "npy", "zarr"; nil or empty means vti and npy. A cancelled ctx
+// gives an error wrapping ctx.Err().
 //
 // The manifest written is a copy of man (NewManifest(m, Provenance{}) when
 // man is nil) whose grid, fields and files entries are regenerated from m and
 // formats, so it always describes exactly what was written; its other
 // entries are kept. A mask.zarr store of an earlier run is replaced as a
-// whole; other files of earlier runs that this run does not rewrite (the
-// .npy of a field since dropped) are left in place. Field names must be
-// usable as file names (letters, digits, '_', '-', '.') and unique.
-// WriteDir uses default VTIOptions and ZarrOptions; a caller who needs
-// others writes those files with WriteVTI or WriteZarr itself.
-func WriteDir(dir string, m *Mask, man *Manifest, formats []string) error {
+// whole (a mask.zarr folder that is not a store is an error); other files of
+// earlier runs that this run does not rewrite (the .npy of a field since
+// dropped) are left in place. Field names must be usable as file names
+// (letters, digits, '_', '-', '.') and unique. WriteDirContext uses default
+// VTIOptions and ZarrOptions; a caller who needs others writes those files
+// with WriteVTI or WriteZarr itself.
+func WriteDirContext(ctx context.Context, dir string, m *Mask, man *Manifest, formats []string) (err error) {
 	set, err := outFormats(formats)
 	if err != nil {
 		return err
@@ -173,39 +234,83 @@ func WriteDir(dir string, m *Mask, man *Manifest, formats []string) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
-	// A manifest from an earlier run goes first: should this run fail
-	// halfway, the folder then has no manifest rather than one that vouches
-	// for a mix of old and new files.
-	if err := os.Remove(filepath.Join(dir, ManifestFile)); err != nil && !errors.Is(err, os.ErrNotExist) {
-		return err
+	// Stage every output under a temporary name; nothing in dir changes
+	// until all of them are complete.
+	type outStaged struct{ tmp, final string }
+	var staged []outStaged
+	defer func() {
+		if err != nil {
+			for _, st := range staged {
+				os.RemoveAll(st.tmp)
+			}
+		}
+	}()
+	stage := func(name string, write func(io.Writer) error) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		final := filepath.Join(dir, name)
+		tmp, err := outWriteTemp(final, true, 1<<20, func(w io.Writer) error { return write(outCtxWriter{ctx, w}) })
+		if err != nil {
+			return fmt.Errorf("writing %s: %w", name, err)
+		}
+		staged = append(staged, outStaged{tmp, final})
+		return nil
 	}
 	if set["npy"] {
 		for _, f := range m.Fields {
-			if err := WriteFileAtomic(filepath.Join(dir, f.Name+".npy"), func(w io.Writer) error { return WriteNPY(w, m.Grid, f) }); err != nil {
-				return fmt.Errorf("writing %s.npy: %w", f.Name, err)
+			if err := stage(f.Name+".npy", func(w io.Writer) error { return WriteNPY(w, m.Grid, f) }); err != nil {
+				return err
 			}
 		}
 	}
 	if set["vti"] {
-		if err := WriteFileAtomic(filepath.Join(dir, VTIFile), func(w io.Writer) error { return WriteVTI(w, m, VTIOptions{}) }); err != nil {
-			return fmt.Errorf("writing %s: %w", VTIFile, err)
+		if err := stage(VTIFile, func(w io.Writer) error { return WriteVTI(w, m, VTIOptions{}) }); err != nil {
+			return err
 		}
 	}
+	zdir := filepath.Join(dir, ZarrDir)
 	if set["zarr"] {
-		// A store from an earlier run would keep arrays of dropped fields;
-		// it is removed first, but only if it is one (it has a .zgroup).
-		zdir := filepath.Join(dir, ZarrDir)
-		if _, err := os.Stat(filepath.Join(zdir, ".zgroup")); err == nil {
+		if fi, err := os.Stat(zdir); err == nil && fi.IsDir() {
+			if _, err := os.Stat(filepath.Join(zdir, ".zgroup")); err != nil {
+				return fmt.Errorf("writing %s: %s exists and is not a Zarr store; move it away", ZarrDir, zdir)
+			}
+		}
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		tmp, err := os.MkdirTemp(dir, "."+ZarrDir+".tmp-*")
+		if err != nil {
+			return err
+		}
+		staged = append(staged, outStaged{tmp, zdir})
+		if err := WriteZarr(tmp, m, &c, ZarrOptions{}); err != nil {
+			return fmt.Errorf("writing %s: %w", ZarrDir, err)
+		}
+	}
+	if err := stage(ManifestFile, func(w io.Writer) error { return WriteManifest(w, &c) }); err != nil {
+		return err
+	}
+	if err := ctx.Err(); err != nil {
+		return err
+	}
+	// Commit. A manifest from an earlier run goes first: should a rename
+	// fail, the folder then has no manifest rather than one that vouches
+	// for a mix of old and new files. The new manifest is staged last and
+	// renamed last.
+	if err := os.Remove(filepath.Join(dir, ManifestFile)); err != nil && !errors.Is(err, os.ErrNotExist) {
+		return err
+	}
+	for i, st := range staged {
+		if st.final == zdir {
 			if err := os.RemoveAll(zdir); err != nil {
 				return err
 			}
 		}
-		if err := WriteZarr(zdir, m, &c, ZarrOptions{}); err != nil {
-			return fmt.Errorf("writing %s: %w", ZarrDir, err)
+		if err := os.Rename(st.tmp, st.final); err != nil {
+			return err
 		}
-	}
-	if err := WriteFileAtomic(filepath.Join(dir, ManifestFile), func(w io.Writer) error { return WriteManifest(w, &c) }); err != nil {
-		return fmt.Errorf("writing %s: %w", ManifestFile, err)
+		staged[i].tmp = "" // renamed: nothing to clean up
 	}
 	return nil
 }
