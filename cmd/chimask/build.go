@@ -121,7 +121,11 @@ func manifestFor(b *built) *masks.Manifest {
 
 // writeBuilt writes the mask folder.
 func writeBuilt(b *built) error {
-	if err := masks.WriteDir(b.OutDir, b.Mask, manifestFor(b), b.Formats); err != nil {
+	ctx := b.ctx
+	if ctx == nil {
+		ctx = context.Background()
+	}
+	if err := masks.WriteDirContext(ctx, b.OutDir, b.Mask, manifestFor(b), b.Formats); err != nil {
 		return fmt.Errorf("writing %s: %w", b.OutDir, err)
 	}
 	return nil

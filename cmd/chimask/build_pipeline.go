@@ -43,6 +43,7 @@ type built struct {
 	MeshInfo *voxelize.MeshReport
 	OutDir   string
 	Formats  []string
+	ctx      context.Context // the build's context, so that writing stops on an interrupt too
 }
 
 // sceneFor loads a scene file, or makes a one-source scene for a drawing
@@ -255,7 +256,7 @@ func buildScene(ctx context.Context, s *streams, sc *Scene, f gridFlags) (*built
 		return nil, err
 	}
 	opts := sc.maskOptions(f.Workers, perIndex)
-	b := &built{Scene: sc, Model: m, Grid: g, PerIndex: perIndex, Options: opts}
+	b := &built{Scene: sc, Model: m, Grid: g, PerIndex: perIndex, Options: opts, ctx: ctx}
 	task = progStart(s, f.Quiet, "voxelizing")
 	defer task.done()
 	b.Options.Progress = task.callback()
