@@ -75,6 +75,7 @@ func TestReportHTMLIsSelfContained(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	repCheckBalanced(t, b)
 	// golang.org/x/net/html parses as browsers do (HTML5 tree construction);
 	// it never fails, so the checks are on what it finds.
 	doc, err := html.Parse(bytes.NewReader(b))
@@ -208,6 +209,45 @@ func TestReportNumbersMatchJSON(t *testing.T) {
 	// and report.json holds the source's numbers
 	if got, _ := repJSONPath(js, "check.checks.0.measured"); got != 0.05 {
 		t.Errorf("report.json check.checks.0.measured = %v, want 0.05", got)
+	}
+}
+
+// repCheckBalanced tokenizes page and fails on an end tag that does not
+// close the innermost open element, or on elements left open: the HTML5
+// parser would repair either silently (void elements excepted, WHATWG HTML
+// 13.1.2), so this is the stricter check.
+func repCheckBalanced(t *testing.T, page []byte) {
+	t.Helper()
+	void := map[string]bool{"area": true, "base": true, "br": true, "col": true, "embed": true, "hr": true, "img": true,
+		"input": true, "link": true, "meta": true, "source": true, "track": true, "wbr": true}
+	z := html.NewTokenizer(bytes.NewReader(page))
+	var stack []string
+	doctype := false
+	for {
+		tt := z.Next()
+		switch tt {
+		case html.ErrorToken:
+			if len(stack) != 0 {
+				t.Errorf("report.html ends with open elements %v", stack)
+			}
+			if !doctype {
+				t.Errorf("report.html has no <!DOCTYPE html>")
+			}
+			return
+		case html.DoctypeToken:
+			doctype = true
+		case html.StartTagToken:
+			name, _ := z.TagName()
+			if !void[string(name)] {
+				stack = append(stack, string(name))
+			}
+		case html.EndTagToken:
+			name, _ := z.TagName()
+			if len(stack) == 0 || stack[len(stack)-1] != string(name) {
+				t.Fatalf("report.html: </%s> while %v are open", name, stack)
+			}
+			stack = stack[:len(stack)-1]
+		}
 	}
 }
 
