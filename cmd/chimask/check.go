@@ -124,6 +124,8 @@ func runCheck(ctx context.Context, s *streams, o checkOptions) error {
 		if err := checkSpacingSearch(ctx, sc, o.Grid, b, rep); err != nil {
 			return err
 		}
+	} else {
+		rep.Limiting = "not searched (--no-search)"
 	}
 	if err := masks.WriteFileAtomic(filepath.Join(b.OutDir, checkJSON), rep.WriteJSON); err != nil {
 		return fmt.Errorf("writing %s: %w", checkJSON, err)
@@ -334,6 +336,9 @@ func printCheck(w io.Writer, r *validate.CheckReport, searched bool) {
 		fmt.Fprintf(w, "note: %s\n", x)
 	}
 	if !searched {
+		if r.WidthBoundM > 0 {
+			fmt.Fprintf(w, "the thinnest wall or gap allows cells up to %s (%s); run without --no-search to confirm every check there\n", formatLength(r.WidthBoundM), r.WidthLimiting)
+		}
 		return
 	}
 	fmt.Fprintln(w, "spacing search:")
