@@ -436,3 +436,51 @@ func BenchmarkCheckVsBuild2D(b *testing.B) {
 		})
 	}
 }
+
+// The scene's [checks] and [medium] tables reach the checks: wall_cells 6
+// makes the 2.5 mm tubes (5 cells of 0.5 mm) fail with exit 1, and an
+// absorption of 3000 1/m gives an optical thickness of 1.5 per cell, a
+// warning that does not fail the run.
+func TestCheckSceneKeys(t *testing.T) {
+	scene := chkDemoScene(t)
+	raw, err := os.ReadFile(scene)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name, extra string
+		code        int
+		check       string
+		pass, warn  bool
+		measured    float64
+	}{
+		{"wall_cells 6", "\n[checks]\nwall_cells = 6.0\n", exitCheckFail, "wall thickness", false, false, 0.0025},
+		{"optically thick medium", "\n[medium]\nabsorption = 2500.0\nscattering = 500.0\n", exitOK, "optical thickness per cell", true, true, 1.5},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			p := filepath.Join(filepath.Dir(scene), strings.ReplaceAll(tc.name, " ", "_")+".toml")
+			if err := os.WriteFile(p, append(append([]byte{}, raw...), tc.extra...), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			out := filepath.Join(t.TempDir(), "m")
+			code, _, stderr := runCLI(t, "check", p, "--out", out, "--no-search")
+			if code != tc.code {
+				t.Fatalf("exit %d, want %d; stderr %s", code, tc.code, stderr)
+			}
+			r := chkReadReport(t, filepath.Join(out, checkJSON))
+			found := false
+			for _, c := range r.Checks {
+				if c.Name != tc.check || (tc.check == "wall thickness" && c.Subject != "absorber tubes") {
+					continue
+				}
+				found = true
+				if c.Pass != tc.pass || c.Warning != tc.warn || math.Abs(c.Measured-tc.measured) > 1e-5 {
+					t.Errorf("%s of %s: measured %g pass %v warning %v, want %g, %v, %v", c.Name, c.Subject, c.Measured, c.Pass, c.Warning, tc.measured, tc.pass, tc.warn)
+				}
+			}
+			if !found {
+				t.Errorf("no %q check", tc.check)
+			}
+		})
+	}
+}
