@@ -290,6 +290,10 @@ func (g plotGrid) Z(c, r int) float64 {
 func (g plotGrid) X(c int) float64 { return float64(c) }
 func (g plotGrid) Y(r int) float64 { return float64(r) }
 
+// plotMaxLabelled is the largest matrix (columns) whose entries are
+// written in the heat map's cells.
+const plotMaxLabelled = 10
+
 // plotViewFactors draws the mask's and the geometry's view-factor matrices
 // side by side on one colour scale from 0 to 1, each entry labelled.
 func plotViewFactors(r *repRadiation) (*repPicture, error) {
@@ -315,29 +319,31 @@ func plotViewFactors(r *repRadiation) (*repPicture, error) {
 		hm := plotter.NewHeatMap(plotGrid(m.F), cmapViridisPalette(256))
 		hm.Min, hm.Max = 0, 1
 		p.Add(hm)
-		var xy plotter.XYs
-		var labels []string
 		n, cols := len(m.F), len(m.F[0])
-		for i := range n {
-			for j := range cols {
-				xy = append(xy, plotter.XY{X: float64(j), Y: float64(n - 1 - i)})
-				labels = append(labels, fmt.Sprintf("%.3f", m.F[i][j]))
+		if cols <= plotMaxLabelled { // past that the numbers overlap; the table and radiation.json have them
+			var xy plotter.XYs
+			var labels []string
+			for i := range n {
+				for j := range cols {
+					xy = append(xy, plotter.XY{X: float64(j), Y: float64(n - 1 - i)})
+					labels = append(labels, fmt.Sprintf("%.3f", m.F[i][j]))
+				}
 			}
-		}
-		lb, err := plotter.NewLabels(plotter.XYLabels{XYs: xy, Labels: labels})
-		if err != nil {
-			return nil, err
-		}
-		for k := range lb.TextStyle {
-			f := m.F[k/cols][k%cols]
-			lb.TextStyle[k].Color = color.White
-			if f > 0.6 {
-				lb.TextStyle[k].Color = color.Black
+			lb, err := plotter.NewLabels(plotter.XYLabels{XYs: xy, Labels: labels})
+			if err != nil {
+				return nil, err
 			}
-			lb.TextStyle[k].XAlign, lb.TextStyle[k].YAlign = draw.XCenter, draw.YCenter
-			lb.TextStyle[k].Font.Size = vg.Points(8)
+			for k := range lb.TextStyle {
+				f := m.F[k/cols][k%cols]
+				lb.TextStyle[k].Color = color.White
+				if f > 0.6 {
+					lb.TextStyle[k].Color = color.Black
+				}
+				lb.TextStyle[k].XAlign, lb.TextStyle[k].YAlign = draw.XCenter, draw.YCenter
+				lb.TextStyle[k].Font.Size = vg.Points(8)
+			}
+			p.Add(lb)
 		}
-		p.Add(lb)
 		var xt, yt []plot.Tick
 		for j := range cols {
 			xt = append(xt, plot.Tick{Value: float64(j), Label: pvShort(r.Columns[j], 14)})
