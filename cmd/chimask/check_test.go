@@ -484,3 +484,46 @@ func TestCheckSceneKeys(t *testing.T) {
 		})
 	}
 }
+
+// 3D: an extruded tube whose wall spans 1.5 cells fails the wall check on
+// its side walls, 3 cells passes.
+func TestCheckMeshTubeWall(t *testing.T) {
+	const r2o, h, l = 0.005, 0.0005, 0.006
+	for _, tc := range []struct {
+		name  string
+		cells float64
+		pass  bool
+	}{{"1.5 cells", 1.5, false}, {"3 cells", 3, true}} {
+		t.Run(tc.name, func(t *testing.T) {
+			r1 := r2o - tc.cells*h
+			mesh, err := importers.Extrude(&importers.Outline{Surfaces: []string{"tube", "bore"}, Loops: []importers.Loop{
+				chkCircle(r2.Vec{X: 0.00007}, r2o, 360, true, 0), chkCircle(r2.Vec{X: 0.00007}, r1, 360, false, 1)}}, 0.00011, 0.00011+l)
+			if err != nil {
+				t.Fatal(err)
+			}
+			n := int(math.Ceil(2*r2o/h)) + 6
+			g := masks.Grid{Dim: 3, Origin: [3]float64{-r2o - 3*h, -r2o - 3*h, -3 * h}, Spacing: [3]float64{h, h, h}, Cells: [3]int{n, n, int(math.Ceil(l/h)) + 7}}
+			m, _, err := voxelize.Mesh(context.Background(), mesh, g, voxelize.Options{Workers: 2})
+			if err != nil {
+				t.Fatal(err)
+			}
+			rep, err := validate.CheckMesh(context.Background(), mesh, m, validate.CheckOptions{Workers: 2, Seed: 3})
+			if err != nil {
+				t.Fatal(err)
+			}
+			seen := 0
+			for _, c := range chkFind(rep, "wall thickness") {
+				if c.Subject != "surface 1" && c.Subject != "surface 2" {
+					continue // the end caps: walls along the tube, 12 cells
+				}
+				seen++
+				if want := r2o - r1; math.Abs(c.Measured-want) > r2o*(1-math.Cos(math.Pi/360))+1e-9 || c.Pass != tc.pass {
+					t.Errorf("%s: wall %g m (%.2f cells) pass %v, want %g and %v", c.Subject, c.Measured, c.Cells, c.Pass, want, tc.pass)
+				}
+			}
+			if seen != 2 {
+				t.Errorf("%d side-wall checks, want 2", seen)
+			}
+		})
+	}
+}
