@@ -92,6 +92,15 @@ func ReadSTL(r io.Reader, name string, opts STLOptions) (*Mesh, error) {
 	if err != nil && err != io.EOF && err != bufio.ErrBufferFull {
 		return nil, &InputError{File: name, Offset: int64(len(head)), What: "read failed: " + err.Error()}
 	}
+	// A UTF-8 byte order mark, which some editors put before "solid", is
+	// skipped; binary headers are written by programs and never start
+	// with one followed by "solid".
+	if bom := "\xef\xbb\xbf"; bytes.HasPrefix(head, []byte(bom)) && stlBeginsWithSolid(head[len(bom):]) {
+		br.Discard(len(bom))
+		if head, err = br.Peek(84); err != nil && err != io.EOF && err != bufio.ErrBufferFull {
+			return nil, &InputError{File: name, Offset: int64(len(head)), What: "read failed: " + err.Error()}
+		}
+	}
 	b := &stlBuilder{file: name, scale: scale, maxTris: maxTris}
 	text := stlBeginsWithSolid(head)
 	switch {
@@ -107,6 +116,14 @@ func ReadSTL(r io.Reader, name string, opts STLOptions) (*Mesh, error) {
 	if count > int64(maxTris) {
 		if text {
 			return b.ascii(br, opts)
+		}
+		// A file far shorter than the count says is damage (or not STL),
+		// not a model too large: say so rather than suggest a higher cap.
+		// At most 1 MiB is read to find out.
+		if data, err := stlReadUpTo(br, 1<<20); err == nil && len(data) < 1<<20 && int64(len(data)) < 84+50*count {
+			return nil, &InputError{File: name, Offset: 80,
+				What: fmt.Sprintf("binary header promises %d triangles, more than the cap of %d, and the file has only %d bytes", count, maxTris, len(data)),
+				Hint: stlNotBinaryHint(head, "the file is damaged or not STL; export it again")}
 		}
 		return nil, &InputError{File: name, Offset: 80, What: fmt.Sprintf("binary header promises %d triangles, more than the cap of %d", count, maxTris),
 			Hint: stlNotBinaryHint(head, "raise the triangle cap if the file really is that large")}
