@@ -156,7 +156,10 @@ func pvFractionImage(s *pvSlice, v pvView, segs []pvSeg, marks []pvMark) *image.
 		col := cmapViridis(float64(k) / (barW - 1))
 		c.rect(x+k, y0+14, x+k+1, y0+30, col)
 	}
-	c.text(face, x+barW+6, y0+26, "1", pvInk, false)
+	x += barW + 6 + c.text(face, x+barW+6, y0+26, "1", pvInk, false)
+	if s.Dim == 3 {
+		c.text(face, x+24, y0+26, s.label(), pvInk, false)
+	}
 	pvScaleBar(c, v, y0)
 	return c.img
 }
