@@ -80,7 +80,7 @@ check passes, 1 when one fails, 2 on bad input.`,
 		},
 	}
 	addGridFlags(c, &o.Grid)
-	c.Flags().StringVar(&o.Mask, "mask", "", "check this existing mask folder (from `chimask build`) against the scene instead of building")
+	c.Flags().StringVar(&o.Mask, "mask", "", "check the existing mask folder `DIR` (written by chimask build) against the scene instead of building")
 	c.Flags().Bool("no-search", false, "skip the spacing search (no rebuilds at other cell sizes)")
 	return c
 }
@@ -116,12 +116,17 @@ func runCheck(ctx context.Context, s *streams, o checkOptions) error {
 			return err
 		}
 	}
+	task := progStart(s, o.Grid.Quiet, "checking walls, gaps, leaks and conservation")
 	rep, err := checkBuilt(ctx, b, o.Grid.Workers)
+	task.done()
 	if err != nil {
 		return err
 	}
 	if o.Search {
-		if err := checkSpacingSearch(ctx, sc, o.Grid, b, rep); err != nil {
+		task := progStart(s, o.Grid.Quiet, "searching the cell size")
+		err := checkSpacingSearch(ctx, sc, o.Grid, b, rep)
+		task.done()
+		if err != nil {
 			return err
 		}
 	} else {
@@ -132,6 +137,9 @@ func runCheck(ctx context.Context, s *streams, o checkOptions) error {
 	}
 	printCheck(s.out, rep, o.Search)
 	fmt.Fprintf(s.out, "wrote %s\n", filepath.Join(b.OutDir, checkJSON))
+	if err := writeBuiltReport(s, b, o.Grid, rep, nil); err != nil {
+		return err
+	}
 	if !rep.Pass {
 		f := rep.Failed()
 		return &checkFailedError{msg: fmt.Sprintf("%d of %d checks failed, first %s of %s (see the table above and %s)", len(f), len(rep.Checks), f[0].Name, f[0].Subject, checkJSON)}

@@ -85,9 +85,11 @@ func TestCheckDemoScene(t *testing.T) {
 	if !strings.Contains(stdout, "recommended cell:") || !strings.Contains(stdout, "wall thickness") {
 		t.Errorf("stdout lacks the table or the recommendation:\n%s", stdout)
 	}
-	// The mask itself was written too.
-	if _, err := os.Stat(filepath.Join(out, "manifest.json")); err != nil {
-		t.Errorf("no mask written: %v", err)
+	// The mask itself was written too, and the report that shows the checks.
+	for _, f := range []string{"manifest.json", "report.html"} {
+		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
+			t.Errorf("no %s written: %v", f, err)
+		}
 	}
 }
 
@@ -95,16 +97,16 @@ func TestCheckDemoScene(t *testing.T) {
 func TestCheckMaskFolder(t *testing.T) {
 	scene := chkDemoScene(t)
 	dir := filepath.Join(t.TempDir(), "mask")
-	if code, _, stderr := runCLI(t, "build", scene, "--out", dir); code != exitOK {
+	if code, _, stderr := runCLI(t, "build", scene, "--out", dir, "--no-report"); code != exitOK {
 		t.Fatalf("build: exit %d: %s", code, stderr)
 	}
-	code, _, stderr := runCLI(t, "check", scene, "--mask", dir, "--no-search")
+	code, _, stderr := runCLI(t, "check", scene, "--mask", dir, "--no-search", "--no-report")
 	if code != exitOK && code != exitCheckFail {
 		t.Fatalf("check --mask: exit %d: %s", code, stderr)
 	}
 	fromDir := chkReadReport(t, filepath.Join(dir, checkJSON))
 	out2 := filepath.Join(t.TempDir(), "m2")
-	if code, _, stderr := runCLI(t, "check", scene, "--out", out2, "--no-search"); code != exitOK && code != exitCheckFail {
+	if code, _, stderr := runCLI(t, "check", scene, "--out", out2, "--no-search", "--no-report"); code != exitOK && code != exitCheckFail {
 		t.Fatalf("check: exit %d: %s", code, stderr)
 	}
 	built := chkReadReport(t, filepath.Join(out2, checkJSON))
@@ -125,7 +127,7 @@ func TestCheckMaskFolder(t *testing.T) {
 	// A drawing given directly takes its cell from the mask.
 	dxf := filepath.Join(filepath.Dir(scene), "receiver.dxf")
 	out3 := filepath.Join(t.TempDir(), "m3")
-	if code, _, stderr := runCLI(t, "check", dxf, "--units", "mm", "--mask", dir, "--out", out3, "--no-search"); code != exitOK && code != exitCheckFail || strings.Contains(stderr, "writing") {
+	if code, _, stderr := runCLI(t, "check", dxf, "--units", "mm", "--mask", dir, "--out", out3, "--no-search", "--no-report"); code != exitOK && code != exitCheckFail || strings.Contains(stderr, "writing") {
 		t.Fatalf("check DRAWING --mask: exit %d: %s", code, stderr)
 	}
 	if r := chkReadReport(t, filepath.Join(out3, checkJSON)); len(r.Checks) == 0 || r.CellM[0] != 0.0005 {
@@ -463,7 +465,7 @@ func TestCheckSceneKeys(t *testing.T) {
 				t.Fatal(err)
 			}
 			out := filepath.Join(t.TempDir(), "m")
-			code, _, stderr := runCLI(t, "check", p, "--out", out, "--no-search")
+			code, _, stderr := runCLI(t, "check", p, "--out", out, "--no-search", "--no-report")
 			if code != tc.code {
 				t.Fatalf("exit %d, want %d; stderr %s", code, tc.code, stderr)
 			}
