@@ -367,8 +367,8 @@ func repRadiationOf(rad *validate.RadiationReport, dim int) *repRadiation {
 	if dim == 3 {
 		out.Unit = "W"
 	}
-	if len(rad.Mask.Rays) > 0 {
-		out.Rays = rad.Mask.Rays[0]
+	for _, n := range rad.Mask.Rays {
+		out.Rays = max(out.Rays, n) // surfaces without area trace none
 	}
 	if rad.Geometry != nil {
 		out.GeomF = rad.Geometry.F

@@ -157,9 +157,9 @@ ul.fails li { margin: 2px 0; }
 <tr><td class="n">{{$i}}</td><td>{{$c.Name}}</td><td>{{$c.Subject}}</td>
 <td class="n" data-k="{{key "check.checks" $i "measured"}}" data-v="{{full $c.Measured}}">{{qty $c.Measured $c.Unit}}</td>
 <td class="n" data-k="{{key "check.checks" $i "threshold"}}" data-v="{{full $c.Threshold}}">{{qty $c.Threshold $c.Unit}}</td>
-<td class="n" data-k="{{key "check.checks" $i "cells"}}" data-v="{{full $c.Cells}}">{{g4 $c.Cells}}</td>
+<td class="n">{{if gt $c.Cells 0.0}}<span data-k="{{key "check.checks" $i "cells"}}" data-v="{{full $c.Cells}}">{{g4 $c.Cells}}</span>{{else}}-{{end}}</td>
 <td class="{{passfail $c.Pass}}" data-k="{{key "check.checks" $i "pass"}}" data-v="{{$c.Pass}}">{{passfail $c.Pass}}{{if $c.Warning}} (warning){{end}}</td>
-<td class="n">{{place $c.Location}}</td><td class="note">{{$c.Note}}</td></tr>
+<td class="n">{{place $c.Location}}{{with $.FailNumber $i}}<br>ring {{.}}{{end}}</td><td class="note">{{$c.Note}}</td></tr>
 {{- end}}
 </table>
 {{- if .Failures}}
