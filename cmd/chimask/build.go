@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"os"
 	"sort"
 
 	"github.com/spf13/cobra"
@@ -15,6 +16,9 @@ import (
 type buildOptions struct {
 	Input string // scene file or drawing
 	Grid  gridFlags
+	Part  string                      // --part K/N (part.go); "" to read a launcher's rank from Env
+	Chunk string                      // --zarr-chunks: chunk shape of a zarr-only build (part.go)
+	Env   func(string) (string, bool) // environment lookup (launcher.go); nil reads none
 }
 
 // addGridFlags registers the flags build, check and radiation share.
@@ -66,6 +70,9 @@ interrupted build leaves the previous output intact.`,
 		},
 	}
 	addGridFlags(c, &o.Grid)
+	c.Flags().StringVar(&o.Part, "part", "", "build part K of N (K from 1) of a chunked zarr build, then run `chimask merge` (default: the rank under mpirun, srun or a Slurm job array)")
+	c.Flags().StringVar(&o.Chunk, "zarr-chunks", "", "chunk shape of a zarr-only build in NumPy order, CY,CX or CZ,CY,CX cells (default 512,512 or 64,64,64)")
+	o.Env = os.LookupEnv
 	return c
 }
 
@@ -73,6 +80,9 @@ interrupted build leaves the previous output intact.`,
 func runBuild(ctx context.Context, s *streams, o buildOptions) error {
 	sc, err := sceneFor(o.Input, o.Grid)
 	if err != nil {
+		return err
+	}
+	if routed, err := routeChunked(ctx, s, sc, o); routed { // part.go: zarr-only and parted builds stream chunks
 		return err
 	}
 	b, err := buildScene(ctx, s, sc, o.Grid)

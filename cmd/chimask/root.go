@@ -119,7 +119,7 @@ high-temperature equipment defer to local codes and licensed practice.`,
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return &usageError{msg: err.Error(), hint: fmt.Sprintf("see `%s --help`", c.CommandPath())}
 	})
-	root.AddCommand(newVersionCmd(s), newInspectCmd(s), newBuildCmd(s), newRadiationCmd(s), newCheckCmd(s), newDemoCmd(s), newReportCmd(s))
+	root.AddCommand(newVersionCmd(s), newInspectCmd(s), newBuildCmd(s), newRadiationCmd(s), newCheckCmd(s), newDemoCmd(s), newReportCmd(s), newMergeCmd(s))
 	for _, c := range root.Commands() {
 		wrapArgs(c)
 	}
