@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 
 	"chimask/importers"
 	"chimask/masks"
@@ -187,6 +188,22 @@ func chkAssemble(ctx context.Context, m *masks.Mask, lab *Labels, w *Widths, exa
 	if w.Points > 0 {
 		rep.Warnings = append(rep.Warnings, fmt.Sprintf("width rays from %d surface points: %d walls and %d gaps measured, %d corner wedges and %d open gap rays left out, %d inconsistent",
 			w.Points, len(w.Walls), len(w.Gaps), w.Corner, w.Open, w.Inconsistent))
+	}
+	// A surface whose every wall ray ended in its own corner (a triangle,
+	// a sharp wedge) has no thickness check: say so rather than pass silently.
+	measured := map[int]bool{}
+	for _, s := range w.Walls {
+		measured[consID(opts.SurfaceIDs, s.Surface)] = true
+	}
+	var unmeasured []int
+	for id, l := range exactS {
+		if l > 0 && !measured[id] {
+			unmeasured = append(unmeasured, id)
+		}
+	}
+	slices.Sort(unmeasured)
+	for _, id := range unmeasured {
+		rep.Warnings = append(rep.Warnings, fmt.Sprintf("no wall thickness measured on %s: every ray from it ended in a corner of its own outline", nm.surface(id)))
 	}
 	// Leaks, broken and merged bodies.
 	solid, err := MaskSolid(m)
