@@ -162,9 +162,8 @@ type repSource struct {
 }
 
 // repLoadFolder reads a finished output folder: the mask through
-// masks.ReadDir, and check.json and radiation.json when present and not
-// older than the manifest (an older one belongs to an earlier mask and is
-// left out with a note).
+// masks.ReadDir, and check.json and radiation.json when present and
+// fitting the mask (see readSidecars).
 func repLoadFolder(dir string) (*repSource, error) {
 	m, man, err := masks.ReadDir(dir)
 	if err != nil {
@@ -178,48 +177,78 @@ func repLoadFolder(dir string) (*repSource, error) {
 }
 
 // readSidecars reads check.json and radiation.json from the folder unless
-// the source already holds them.
+// the source already holds them. A file older than the manifest was
+// written for an earlier mask: it is shown, with a note, when it still fits
+// the mask (check.json: same dimension and cell size; radiation.json: the
+// same surfaces), and left out, with a note, when it does not.
 func (src *repSource) readSidecars() error {
 	mt := repModTime(filepath.Join(src.Dir, masks.ManifestFile))
-	read := func(name string, v any) (bool, error) {
+	read := func(name string, v any) (found, stale bool, err error) {
 		path := filepath.Join(src.Dir, name)
 		b, err := os.ReadFile(path)
 		if errors.Is(err, os.ErrNotExist) {
-			return false, nil
+			return false, false, nil
 		}
 		if err != nil {
-			return false, err
-		}
-		if t := repModTime(path); t >= 0 && mt >= 0 && t < mt {
-			src.Notes = append(src.Notes, fmt.Sprintf("%s is older than the mask in the folder and is left out; run the command that writes it again", name))
-			return false, nil
+			return false, false, err
 		}
 		if err := json.Unmarshal(b, v); err != nil {
-			return false, &masks.ReadError{File: path, Offset: -1, What: "not valid JSON: " + err.Error(), Hint: "run the command that writes it again"}
+			return false, false, &masks.ReadError{File: path, Offset: -1, What: "not valid JSON: " + err.Error(), Hint: "run the command that writes it again"}
 		}
-		return true, nil
+		t := repModTime(path)
+		return true, t >= 0 && mt >= 0 && t < mt, nil
+	}
+	note := func(name string, fits bool) {
+		if fits {
+			src.Notes = append(src.Notes, fmt.Sprintf("%s was written before the mask files now in the folder (same grid and surfaces, so it is shown); run its command again if the geometry or the scene changed", name))
+		} else {
+			src.Notes = append(src.Notes, fmt.Sprintf("%s in the folder belongs to another mask (other grid or surfaces) and is left out; run its command again", name))
+		}
 	}
 	if src.Check == nil {
 		var c validate.CheckReport
-		ok, err := read(checkJSON, &c)
+		found, stale, err := read(checkJSON, &c)
 		if err != nil {
 			return err
 		}
-		if ok {
-			if g := src.Mask.Grid; c.Dim != g.Dim || len(c.CellM) < 1 || math.Abs(c.CellM[0]-g.Spacing[0]) > 1e-9*g.Spacing[0] {
-				src.Notes = append(src.Notes, fmt.Sprintf("%s is for another grid (cell %v m) and is left out", checkJSON, c.CellM))
-			} else {
-				src.Check = &c
+		g := src.Mask.Grid
+		fits := c.Dim == g.Dim && len(c.CellM) == g.Dim
+		for a := 0; fits && a < g.Dim; a++ {
+			fits = math.Abs(c.CellM[a]-g.Spacing[a]) <= 1e-9*g.Spacing[a]
+		}
+		switch {
+		case !found:
+		case !fits:
+			note(checkJSON, false)
+		default:
+			if stale {
+				note(checkJSON, true)
 			}
+			src.Check = &c
 		}
 	}
 	if src.Rad == nil {
 		var r validate.RadiationReport
-		ok, err := read(radiationJSON, &r)
+		found, stale, err := read(radiationJSON, &r)
 		if err != nil {
 			return err
 		}
-		if ok && r.Mask != nil && len(r.Surfaces) > 0 {
+		fits := r.Mask != nil && len(r.Surfaces) == len(r.IDs)+1 && len(r.Mask.Area) == len(r.IDs)
+		for k, id := range r.IDs {
+			ok := false
+			for _, s := range src.Mask.Surfaces {
+				ok = ok || (s.ID == id && s.Name == r.Surfaces[k])
+			}
+			fits = fits && ok
+		}
+		switch {
+		case !found:
+		case !fits:
+			note(radiationJSON, false)
+		default:
+			if stale {
+				note(radiationJSON, true)
+			}
 			src.Rad = &r
 		}
 	}

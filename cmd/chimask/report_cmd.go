@@ -25,8 +25,9 @@ func newReportCmd(s *streams) *cobra.Command {
 		Use:   "report FOLDER",
 		Short: "Write report.html, report.json and the preview PNGs of an output folder",
 		Long: `Report reads an output folder (manifest.json and the .npy fields, and
-check.json and radiation.json when they are there and not older than the mask)
-and writes into it:
+check.json and radiation.json when they are there and fit the mask: same grid,
+same surfaces; one written before the mask files is shown with a note) and
+writes into it:
 
   report.html        one self-contained page: scene, grid, surfaces, every check
                      with its numbers, the pictures, the recommended cell size

@@ -285,32 +285,35 @@ func repJSONText(v any) string {
 }
 
 func TestReportFromFolder(t *testing.T) {
-	// A folder alone: the outline is the distance's zero level, and a
-	// check.json older than the manifest is left out with a note, while a
-	// fresh one is shown.
+	// A folder alone: the outline is the distance's zero level; a
+	// check.json older than the manifest is shown with a note when its grid
+	// is the mask's, left out when it is not, and shown without a note when
+	// fresh.
 	src := repTestSource(t)
 	if err := masks.WriteDir(src.Dir, src.Mask, src.Man, []string{"npy"}); err != nil {
 		t.Fatal(err)
 	}
 	chkPath := filepath.Join(src.Dir, checkJSON)
-	if err := masks.WriteFileAtomic(chkPath, src.Check.WriteJSON); err != nil {
-		t.Fatal(err)
-	}
-	old := time.Now().Add(-time.Hour)
-	if err := os.Chtimes(chkPath, old, old); err != nil {
-		t.Fatal(err)
-	}
 	for _, tc := range []struct {
 		name      string
-		fresh     bool
+		age       time.Duration
+		cell      float64
 		wantCheck bool
-	}{{"stale check.json", false, false}, {"fresh check.json", true, true}} {
+		wantNote  string
+	}{
+		{"stale, same grid", -time.Hour, 1.0 / 16, true, "written before the mask"},
+		{"stale, other grid", -time.Hour, 0.1, false, "left out"},
+		{"fresh", time.Minute, 1.0 / 16, true, ""},
+	} {
 		t.Run(tc.name, func(t *testing.T) {
-			if tc.fresh {
-				now := time.Now().Add(time.Minute)
-				if err := os.Chtimes(chkPath, now, now); err != nil {
-					t.Fatal(err)
-				}
+			c := *src.Check
+			c.CellM = []float64{tc.cell, tc.cell}
+			if err := masks.WriteFileAtomic(chkPath, c.WriteJSON); err != nil {
+				t.Fatal(err)
+			}
+			at := time.Now().Add(tc.age)
+			if err := os.Chtimes(chkPath, at, at); err != nil {
+				t.Fatal(err)
 			}
 			fs, err := repLoadFolder(src.Dir)
 			if err != nil {
@@ -326,8 +329,9 @@ func TestReportFromFolder(t *testing.T) {
 			if !strings.Contains(r.Outline, "zero level") {
 				t.Errorf("outline %q, want the zero level of the distance", r.Outline)
 			}
-			if !tc.wantCheck && !strings.Contains(strings.Join(r.Warnings, " "), "older than the mask") {
-				t.Errorf("warnings %q do not say why check.json was left out", r.Warnings)
+			notes := strings.Join(r.Warnings, " ")
+			if tc.wantNote != "" && !strings.Contains(notes, tc.wantNote) || tc.wantNote == "" && strings.Contains(notes, checkJSON) {
+				t.Errorf("warnings %q, want a note containing %q", r.Warnings, tc.wantNote)
 			}
 		})
 	}
