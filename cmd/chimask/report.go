@@ -13,6 +13,9 @@ import (
 	"os"
 	"path/filepath"
 	"sort"
+	"strings"
+
+	"github.com/BurntSushi/toml"
 
 	"chimask/masks"
 	"chimask/validate"
@@ -64,6 +67,7 @@ type repGrid struct {
 	Spacing []float64 `json:"spacing_m"`
 	Origin  []float64 `json:"origin_m"`
 	Extent  []float64 `json:"extent_m"`
+	Axisym  string    `json:"axisymmetric,omitempty"` // the manifest's note for a 2D section of a body of revolution
 	Slice   *int      `json:"slice,omitempty"`
 	SliceZ  *float64  `json:"slice_z_m,omitempty"`
 }
@@ -101,6 +105,7 @@ type repFailure struct {
 	At      []float64 `json:"location"`
 	Picture string    `json:"picture"` // the zoom window's file
 	Window  float64   `json:"window_m"`
+	Axisym  string    `json:"axisymmetric,omitempty"` // the manifest's note for a 2D section of a body of revolution
 	Slice   *int      `json:"slice,omitempty"`
 	mark    pvMark
 }
@@ -169,7 +174,7 @@ func repLoadFolder(dir string) (*repSource, error) {
 	if err != nil {
 		return nil, err
 	}
-	src := &repSource{Dir: dir, Mask: m, Man: man, Slice: -1, Title: filepath.Base(filepath.Clean(dir))}
+	src := &repSource{Dir: dir, Mask: m, Man: man, Slice: -1, Title: repSceneTitle(man, dir)}
 	if err := src.readSidecars(); err != nil {
 		return nil, err
 	}
@@ -253,6 +258,23 @@ func (src *repSource) readSidecars() error {
 		}
 	}
 	return nil
+}
+
+// repSceneTitle returns the title of the scene file the manifest names,
+// when it can still be read from where the build found it, else the
+// folder's name.
+func repSceneTitle(man *masks.Manifest, dir string) string {
+	if opts, ok := man.Provenance.Options.(map[string]any); ok {
+		if p, ok := opts["scene"].(string); ok && strings.EqualFold(filepath.Ext(p), ".toml") {
+			var head struct {
+				Title string `toml:"title"`
+			}
+			if _, err := toml.DecodeFile(p, &head); err == nil && strings.TrimSpace(head.Title) != "" {
+				return strings.TrimSpace(head.Title)
+			}
+		}
+	}
+	return filepath.Base(filepath.Clean(dir))
 }
 
 // repModTime returns a file's modification time in nanoseconds, -1 when
@@ -359,6 +381,9 @@ func repBuild(src *repSource) (*repReport, error) {
 		Spacing: append([]float64(nil), g.Spacing[:d]...), Origin: append([]float64(nil), g.Origin[:d]...)}
 	for a := range d {
 		r.Grid.Extent = append(r.Grid.Extent, float64(g.Cells[a])*g.Spacing[a])
+	}
+	if man.Axisymmetric != nil {
+		r.Grid.Axisym = man.Axisymmetric.Note
 	}
 	r.Solid = repSolid{Unit: "m^2", Mask: repStat(man, "solid_measure_mask"), Exact: repStat(man, "solid_measure_exact")}
 	if d == 3 {

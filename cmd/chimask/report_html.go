@@ -130,6 +130,7 @@ ul.fails li { margin: 2px 0; }
 <tr><th>spacing</th><td class="n">{{range $a, $h := .Grid.Spacing}}{{if $a}} &times; {{end}}<span data-k="{{key "grid.spacing_m" $a}}" data-v="{{full $h}}">{{length $h}}</span>{{end}}</td></tr>
 <tr><th>origin</th><td class="n">{{range $a, $h := .Grid.Origin}}{{if $a}}, {{end}}<span data-k="{{key "grid.origin_m" $a}}" data-v="{{full $h}}">{{length $h}}</span>{{end}}</td></tr>
 <tr><th>extent</th><td class="n">{{range $a, $h := .Grid.Extent}}{{if $a}} &times; {{end}}<span data-k="{{key "grid.extent_m" $a}}" data-v="{{full $h}}">{{length $h}}</span>{{end}}</td></tr>
+{{- with .Grid.Axisym}}<tr><th>axisymmetric</th><td>{{.}}</td></tr>{{end}}
 {{- if .Grid.Slice}}<tr><th>pictures show</th><td class="n">layer <span data-k="grid.slice" data-v="{{.Grid.Slice}}">{{.Grid.Slice}}</span> at z = <span data-k="grid.slice_z_m" data-v="{{full (deref .Grid.SliceZ)}}">{{length (deref .Grid.SliceZ)}}</span></td></tr>{{end}}
 {{- with .Solid}}{{if and .Mask .Exact}}
 <tr><th>solid ({{.Unit}})</th><td class="n">mask <span data-k="solid.mask" data-v="{{full (deref .Mask)}}">{{g4 (deref .Mask)}}</span>, exact <span data-k="solid.exact" data-v="{{full (deref .Exact)}}">{{g4 (deref .Exact)}}</span>{{with .Relative}}, relative difference <span data-k="solid.relative_difference" data-v="{{full (deref .)}}">{{sci (deref .)}}</span>{{end}}</td></tr>{{end}}{{end}}
