@@ -529,3 +529,45 @@ func TestCheckMeshTubeWall(t *testing.T) {
 		})
 	}
 }
+
+// CHECKS.md F5 (verified numerically): the voxel-face area of a digitised
+// sphere tends to 6 pi r^2, 3/2 of its area, at every resolution.
+func TestCheckStaircaseSphere(t *testing.T) {
+	const r = 0.02 // 20 cells of 1 mm
+	half := importers.Loop{}
+	for i := 0; i <= 128; i++ {
+		a := -math.Pi/2 + math.Pi*float64(i)/128
+		half.Points = append(half.Points, r2.Vec{X: r * math.Cos(a), Y: r * math.Sin(a)})
+		half.Surfaces = append(half.Surfaces, 0)
+	}
+	half.Points[0].X, half.Points[128].X = 0, 0 // the poles on the axis; the closing edge runs down the axis
+	mesh, err := importers.Revolve(&importers.Outline{Surfaces: []string{"sphere"}, Loops: []importers.Loop{half}}, 256)
+	if err != nil {
+		t.Fatal(err)
+	}
+	const h = 0.001
+	g := masks.Grid{Dim: 3, Origin: [3]float64{-0.0237, -0.0241, -0.0233}, Spacing: [3]float64{h, h, h}, Cells: [3]int{48, 48, 48}}
+	m, _, err := voxelize.Mesh(context.Background(), mesh, g, voxelize.Options{Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep, err := validate.CheckMesh(context.Background(), mesh, m, validate.CheckOptions{Workers: 2, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var st *validate.StaircaseEntry
+	for i, s := range rep.Staircase {
+		if s.Subject == "all surfaces" {
+			st = &rep.Staircase[i]
+		}
+	}
+	if st == nil {
+		t.Fatal("no staircase entry")
+	}
+	// Against the sphere itself (F4: 4 pi r^2), not the 256 x 128 polyhedron.
+	ratio := st.StaircaseLength / (4 * math.Pi * r * r)
+	t.Logf("staircase / 4 pi r^2 = %.4f at r = 20 cells (3/2 expected)", ratio)
+	if math.Abs(ratio/1.5-1) > 0.02 {
+		t.Errorf("staircase / sphere area = %.4f, want 3/2 within 2%%", ratio)
+	}
+}
