@@ -68,6 +68,8 @@ func m3PeakRSS() float64 {
 
 // BenchmarkMeshSphere voxelizes a unit geodesic sphere with all fields on a
 // cubic grid of n cells along each side (the sphere's box plus 3 cells).
+// "dense" builds the whole-grid fields with Mesh; "streamed" runs MeshBlocks
+// with a sink that checksums every block.
 // Run the large cases once: go test -run '^$' -bench MeshSphere -benchtime=1x ./voxelize
 func BenchmarkMeshSphere(b *testing.B) {
 	for _, tri := range []struct {
@@ -76,24 +78,40 @@ func BenchmarkMeshSphere(b *testing.B) {
 	}{{"100k", 71}, {"1M", 224}} {
 		m := m3TestGeodesic(tri.f, 1)
 		for _, n := range []int{256, 512} {
-			b.Run(fmt.Sprintf("tri=%s/cells=%d", tri.name, n), func(b *testing.B) {
-				h := 2.0 / float64(n-6)
-				g := masks.Grid{Dim: 3, Origin: [3]float64{-1 - 3*h, -1 - 3*h, -1 - 3*h}, Spacing: [3]float64{h, h, h}, Cells: [3]int{n, n, n}}
-				runtime.GC()
-				var rep *MeshReport
-				for b.Loop() {
-					var err error
-					_, rep, err = Mesh(context.Background(), m, g, Options{})
-					if err != nil {
-						b.Fatal(err)
+			for _, mode := range []string{"dense", "streamed"} {
+				b.Run(fmt.Sprintf("tri=%s/cells=%d/%s", tri.name, n, mode), func(b *testing.B) {
+					h := 2.0 / float64(n-6)
+					g := masks.Grid{Dim: 3, Origin: [3]float64{-1 - 3*h, -1 - 3*h, -1 - 3*h}, Spacing: [3]float64{h, h, h}, Cells: [3]int{n, n, n}}
+					runtime.GC()
+					var rep *MeshReport
+					cpu0 := msCPUSeconds()
+					for b.Loop() {
+						var err error
+						if mode == "dense" {
+							_, rep, err = Mesh(context.Background(), m, g, Options{})
+						} else {
+							// The sink reads every value (a checksum), as a writer would.
+							var sum uint64
+							rep, err = MeshBlocks(context.Background(), m, g, Options{}, func(_ masks.Block, fs []*masks.Field) error {
+								sum += msChecksum(fs)
+								return nil
+							})
+							if sum == 0 {
+								b.Fatal("streamed checksum is zero")
+							}
+						}
+						if err != nil {
+							b.Fatal(err)
+						}
 					}
-				}
-				b.ReportMetric(float64(g.NumCells())*float64(b.N)/b.Elapsed().Seconds(), "cells/s")
-				b.ReportMetric(float64(len(m.Triangles)), "triangles")
-				b.ReportMetric(m3PeakRSS()/(1<<30), "peakRSS_GiB")
-				b.ReportMetric(float64(EstimateMeshMemory(g, len(m.Triangles)))/(1<<30), "estimate_GiB")
-				b.ReportMetric(rep.Volume/(4.0/3*math.Pi)-1, "vol_relerr")
-			})
+					b.ReportMetric(float64(g.NumCells())*float64(b.N)/b.Elapsed().Seconds(), "cells/s")
+					b.ReportMetric((msCPUSeconds()-cpu0)/float64(b.N), "cpu_s/op")
+					b.ReportMetric(float64(len(m.Triangles)), "triangles")
+					b.ReportMetric(m3PeakRSS()/(1<<30), "peakRSS_GiB")
+					b.ReportMetric(float64(EstimateMeshMemory(g, len(m.Triangles)))/(1<<30), "estimate_GiB")
+					b.ReportMetric(rep.Volume/(4.0/3*math.Pi)-1, "vol_relerr")
+				})
+			}
 		}
 	}
 }

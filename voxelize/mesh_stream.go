@@ -83,8 +83,12 @@ func MeshBlocks(ctx context.Context, m *importers.Mesh, g masks.Grid, opts Optio
 // msBuffer is one set of block-sized output fields with the worker view of
 // the job bound to them.
 type msBuffer struct {
-	b      int
-	w      *m3Job
+	b int
+	w *m3Job
+	// tmpl, when tmplOK, is the far block the buffer holds now: a far
+	// block with the same sign, confidence and extent is already written.
+	tmplOK bool
+	tmpl   msFarKey
 	fields []*masks.Field // capacity of a full block
 	view   []*masks.Field // the same arrays cut to the current block
 }
@@ -162,7 +166,7 @@ func (j *m3Job) msStream(ctx context.Context, sink BlockSink) error {
 					return
 				}
 				buf.b = b
-				buf.w.msBlock(b, s)
+				buf.compute(b, s)
 				done <- buf
 			}
 		}()
@@ -214,10 +218,56 @@ func m3BlockCells(b masks.Block) int {
 	return (b.Hi[0] - b.Lo[0]) * (b.Hi[1] - b.Lo[1]) * (b.Hi[2] - b.Lo[2])
 }
 
-// msBlock computes block b into the bound block buffers. The buffers are
-// cleared first because write stores only non-zero values.
-func (j *m3Job) msBlock(b int, s *m3Scratch) {
-	nc := m3BlockCells(j.blocks[b])
+// msFarKey is what the content of a far block depends on when one surface
+// (or none) tags every cell.
+type msFarKey struct {
+	sign int8
+	conf float32
+	n    [3]int
+}
+
+// compute computes block b into the buffer. The fields are cleared first
+// because write stores only non-zero values. A far block identical to the
+// one the buffer already holds (same sign, confidence and extent, one
+// surface) is left as it is, with its volume and confidence counts added:
+// most of a large grid is such blocks.
+func (buf *msBuffer) compute(b int, s *m3Scratch) {
+	j := buf.w
+	blk := j.blocks[b]
+	nc := m3BlockCells(blk)
+	if j.binStart[b] == j.binStart[b+1] {
+		j.far[b] = true
+		res := &j.results[b]
+		sg, conf := j.directSign(j.centre(blk.Lo[0], blk.Lo[1], blk.Lo[2]), res)
+		key := msFarKey{sign: sg, conf: conf, n: [3]int{blk.Hi[0] - blk.Lo[0], blk.Hi[1] - blk.Lo[1], blk.Hi[2] - blk.Lo[2]}}
+		reuse := j.single || len(j.mesh.Triangles) == 0
+		if reuse && buf.tmplOK && buf.tmpl == key {
+			if sg < 0 {
+				res.volume += float64(nc)
+			}
+			if j.conf != nil && conf < m3LowConfidence {
+				res.lowConf += nc
+			}
+			return
+		}
+		j.msClear(nc)
+		j.farBlock(b, s, sg, conf)
+		if !reuse {
+			j.msTags(b)
+		}
+		buf.tmplOK, buf.tmpl = reuse, key
+		return
+	}
+	buf.tmplOK = false
+	j.msClear(nc)
+	j.block(b, s)
+	if !j.single && len(j.mesh.Triangles) > 0 {
+		j.msTags(b)
+	}
+}
+
+// msClear zeroes the fields write fills only where non-zero.
+func (j *m3Job) msClear(nc int) {
 	clear(j.frac[:nc])
 	clear(j.ind[:nc])
 	clear(j.nrm[:3*nc])
@@ -226,15 +276,6 @@ func (j *m3Job) msBlock(b int, s *m3Scratch) {
 	clear(j.sid[:nc])
 	clear(j.em[:nc])
 	clear(j.mat[:nc])
-	j.block(b, s)
-	if j.binStart[b] == j.binStart[b+1] {
-		lo := j.blocks[b].Lo
-		sg, conf := j.directSign(j.centre(lo[0], lo[1], lo[2]), &j.results[b])
-		j.farBlock(b, s, sg, conf)
-	}
-	if !j.single && len(j.mesh.Triangles) > 0 {
-		j.msTags(b)
-	}
 }
 
 // msTags is m3Job.tags inside one block: the band cells keep their exact

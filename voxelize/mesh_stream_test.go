@@ -77,6 +77,7 @@ func TestMeshBlocksMatchesMesh(t *testing.T) {
 		h    float64
 	}{
 		{"sphere", m3TestGeodesic(12, 0.7), Options{}, 0.02},
+		{"small sphere, mostly far blocks", m3TestGeodesic(8, 0.25), Options{}, 0.01},
 		{"torus, smoothed, tagged", m3TestTorus(0.5, 0.18, 48, 24), Options{SmoothingCells: 1.5,
 			Surfaces: []masks.Surface{{ID: 4, Emissivity: 0.6, WallTemperature: &temp, MaterialID: 3}}}, 0.025},
 		{"rotated box", m3TestRotate(m3TestBox(r3.Vec{X: -0.4, Y: -0.3, Z: -0.2}, r3.Vec{X: 0.4, Y: 0.3, Z: 0.25}),
