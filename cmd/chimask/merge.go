@@ -236,7 +236,6 @@ func mergeStatistics(g masks.Grid, sums []chunkSums, rep *validate.ComponentRepo
 		"cells_fluid":            regions[masks.RegionFluid],
 		"cells_interface":        regions[masks.RegionInterface],
 		"cells_solid":            regions[masks.RegionSolid],
-		"parts":                  len(recs),
 		"chunks":                 len(sums),
 	}
 	// The exact measure comes from the geometry each part read; manifestFor

@@ -1,0 +1,278 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"chimask/masks"
+)
+
+// partTestIcosphereSTL returns an ASCII STL icosphere (subdivided level
+// times, radius r, centre c), outward winding.
+func partTestIcosphereSTL(level int, r float64, c [3]float64) string {
+	t := (1 + math.Sqrt(5)) / 2
+	v := [][3]float64{{-1, t, 0}, {1, t, 0}, {-1, -t, 0}, {1, -t, 0}, {0, -1, t}, {0, 1, t}, {0, -1, -t}, {0, 1, -t}, {t, 0, -1}, {t, 0, 1}, {-t, 0, -1}, {-t, 0, 1}}
+	f := [][3]int{{0, 11, 5}, {0, 5, 1}, {0, 1, 7}, {0, 7, 10}, {0, 10, 11}, {1, 5, 9}, {5, 11, 4}, {11, 10, 2}, {10, 7, 6}, {7, 1, 8}, {3, 9, 4}, {3, 4, 2}, {3, 2, 6}, {3, 6, 8}, {3, 8, 9}, {4, 9, 5}, {2, 4, 11}, {6, 2, 10}, {8, 6, 7}, {9, 8, 1}}
+	norm := func(p [3]float64) [3]float64 {
+		l := math.Sqrt(p[0]*p[0] + p[1]*p[1] + p[2]*p[2])
+		return [3]float64{p[0] / l, p[1] / l, p[2] / l}
+	}
+	for i := range v {
+		v[i] = norm(v[i])
+	}
+	for range level {
+		mid := map[[2]int]int{}
+		m := func(a, b int) int {
+			k := [2]int{min(a, b), max(a, b)}
+			if i, ok := mid[k]; ok {
+				return i
+			}
+			v = append(v, norm([3]float64{(v[a][0] + v[b][0]) / 2, (v[a][1] + v[b][1]) / 2, (v[a][2] + v[b][2]) / 2}))
+			mid[k] = len(v) - 1
+			return len(v) - 1
+		}
+		var nf [][3]int
+		for _, tr := range f {
+			ab, bc, ca := m(tr[0], tr[1]), m(tr[1], tr[2]), m(tr[2], tr[0])
+			nf = append(nf, [3]int{tr[0], ab, ca}, [3]int{tr[1], bc, ab}, [3]int{tr[2], ca, bc}, [3]int{ab, bc, ca})
+		}
+		f = nf
+	}
+	var b strings.Builder
+	b.WriteString("solid ball\n")
+	for _, tr := range f {
+		b.WriteString(" facet normal 0 0 0\n  outer loop\n")
+		for _, i := range tr {
+			fmt.Fprintf(&b, "   vertex %.9g %.9g %.9g\n", c[0]+r*v[i][0], c[1]+r*v[i][1], c[2]+r*v[i][2])
+		}
+		b.WriteString("  endloop\n endfacet\n")
+	}
+	b.WriteString("endsolid ball\n")
+	return b.String()
+}
+
+// partTestScene is a scene for the chunked-build tests: files to write,
+// the scene or drawing to build, and the grid and chunk flags.
+type partTestScene struct {
+	name   string
+	files  map[string]string
+	input  string
+	grid   gridFlags
+	chunks string // --zarr-chunks
+	stream bool   // whether the 3D engine streams it
+}
+
+func partTestScenes() []partTestScene {
+	twoIDs := `<svg xmlns="http://www.w3.org/2000/svg" width="80mm" height="60mm" viewBox="0 0 80 60">
+<path id="HOT" d="M 10 10 L 50 10 L 50 40 L 10 40 Z"/>
+<path id="COLD" d="M 55 12 L 72 12 L 72 50 L 55 50 Z"/>
+</svg>`
+	ring := `<svg xmlns="http://www.w3.org/2000/svg" width="80mm" height="60mm" viewBox="0 0 80 60">
+<path id="WALL" fill-rule="evenodd" d="M 8 6 L 66.3 6 L 66.3 52 L 8 52 Z M 20 15 L 40.2 24 L 52 15 L 52 44 L 20 44 Z"/>
+</svg>`
+	return []partTestScene{
+		{name: "3D sphere (streamed)", files: map[string]string{"ball.stl": partTestIcosphereSTL(2, 0.019, [3]float64{0.001, -0.002, 0.0015})},
+			input: "ball.stl", grid: gridFlags{Units: "m", Cells: "70,60,50", Bounds: "-35mm,-30mm,-25mm,35mm,30mm,25mm"}, chunks: "32,32,32", stream: true},
+		{name: "3D two surfaces (dense, then chunked)", files: map[string]string{"two.svg": twoIDs,
+			"two.toml": "[[geometry]]\nfile = \"two.svg\"\nunits = \"mm\"\nextrude = { from = \"0 mm\", to = \"12 mm\" }\n[grid]\ncell = \"1.25 mm\"\npadding = \"2 mm\"\n"},
+			input: "two.toml", chunks: "8,24,24"},
+		{name: "2D ring", files: map[string]string{"ring.svg": ring}, input: "ring.svg",
+			grid: gridFlags{Units: "mm", Cells: "200,150", Bounds: "0,0,80mm,60mm"}, chunks: "40,50"},
+	}
+}
+
+// partTestWrite writes the scene's files into dir and returns the input path.
+func partTestWrite(t *testing.T, dir string, sc partTestScene) string {
+	t.Helper()
+	for name, body := range sc.files {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(body), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return filepath.Join(dir, sc.input)
+}
+
+// partTestBuild runs `chimask build ... --format zarr [--part K/N]` through
+// runBuild, with no launcher environment.
+func partTestBuild(t *testing.T, input string, sc partTestScene, out, part string) string {
+	t.Helper()
+	f := sc.grid
+	f.Out, f.Formats, f.Quiet, f.NoReport, f.Workers = out, []string{"zarr"}, true, true, 2
+	var buf bytes.Buffer
+	err := runBuild(context.Background(), &streams{out: &buf, err: &buf}, buildOptions{Input: input, Grid: f, Part: part, Chunk: sc.chunks})
+	if err != nil {
+		t.Fatalf("build --part %q: %v\n%s", part, err, buf.String())
+	}
+	return buf.String()
+}
+
+// partTestDense builds the scene densely and writes the store with
+// masks.WriteZarr in the same layout: the reference the chunked builds
+// must match byte for byte.
+func partTestDense(t *testing.T, input string, sc partTestScene, dir string) *built {
+	t.Helper()
+	f := sc.grid
+	f.Quiet, f.NoReport = true, true
+	scn, err := sceneFor(input, f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	b, err := buildScene(context.Background(), &streams{out: &buf, err: &buf}, scn, f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	zopts, err := partZarrOptions(sc.chunks, b.Grid.Dim)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := masks.WriteZarr(dir, b.Mask, nil, zopts); err != nil {
+		t.Fatal(err)
+	}
+	return b
+}
+
+// partTestChunkFiles reads every array file of a store (not the group's
+// .zattrs, which holds the manifest, nor the part records).
+func partTestChunkFiles(t *testing.T, store string) map[string][]byte {
+	t.Helper()
+	out := map[string][]byte{}
+	arrays, err := os.ReadDir(store)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, a := range arrays {
+		if !a.IsDir() || strings.HasPrefix(a.Name(), ".") {
+			continue
+		}
+		files, err := os.ReadDir(filepath.Join(store, a.Name()))
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, f := range files {
+			b, err := os.ReadFile(filepath.Join(store, a.Name(), f.Name()))
+			if err != nil {
+				t.Fatal(err)
+			}
+			out[a.Name()+"/"+f.Name()] = b
+		}
+	}
+	return out
+}
+
+// TestPartsMatchWhole: a build split into 1, 2, 3 and 7 parts (merged) has
+// the chunk files of the dense build written by masks.WriteZarr, byte for
+// byte, and one manifest whatever the split; merging again changes no byte.
+func TestPartsMatchWhole(t *testing.T) {
+	for _, sc := range partTestScenes() {
+		t.Run(sc.name, func(t *testing.T) {
+			dir := t.TempDir()
+			input := partTestWrite(t, dir, sc)
+			ref := filepath.Join(dir, "dense.zarr")
+			b := partTestDense(t, input, sc, ref)
+			want := partTestChunkFiles(t, ref)
+			var manifest []byte
+			for _, n := range []int{1, 2, 3, 7} {
+				out := filepath.Join(dir, fmt.Sprintf("p%d", n))
+				if n == 1 {
+					if msg := partTestBuild(t, input, sc, out, ""); sc.stream != strings.Contains(msg, "(streamed)") {
+						t.Errorf("one-process build says %q; streaming %v expected", msg, sc.stream)
+					}
+				} else {
+					for k := 1; k <= n; k++ {
+						partTestBuild(t, input, sc, out, fmt.Sprintf("%d/%d", k, n))
+					}
+					var buf bytes.Buffer
+					if err := runMerge(context.Background(), &streams{out: &buf, err: &buf}, mergeOptions{Dir: out}); err != nil {
+						t.Fatalf("merge of %d parts: %v", n, err)
+					}
+				}
+				got := partTestChunkFiles(t, filepath.Join(out, masks.ZarrDir))
+				if len(got) != len(want) {
+					t.Fatalf("%d parts: %d array files, the dense store has %d", n, len(got), len(want))
+				}
+				for name, w := range want {
+					if !bytes.Equal(got[name], w) {
+						t.Fatalf("%d parts: %s differs from the dense store's", n, name)
+					}
+				}
+				m, err := os.ReadFile(filepath.Join(out, masks.ManifestFile))
+				if err != nil {
+					t.Fatal(err)
+				}
+				if manifest == nil {
+					manifest = m
+					// Conservation: the merged sum of fractions is the dense
+					// one (summed in another order: to round-off).
+					var man masks.Manifest
+					if err := json.Unmarshal(m, &man); err != nil {
+						t.Fatal(err)
+					}
+					got, want := man.Statistics["solid_measure_mask"].(float64), solidMeasure(b)
+					if math.Abs(got-want) > 1e-12*math.Abs(want) {
+						t.Errorf("merged solid measure = %.15g, dense %.15g ± 1e-12 relative", got, want)
+					}
+				} else if !bytes.Equal(m, manifest) {
+					t.Errorf("%d parts: manifest.json differs from the one-process build's", n)
+				}
+				za, err := os.ReadFile(filepath.Join(out, masks.ZarrDir, ".zattrs"))
+				if err != nil || !bytes.Equal(za, m) {
+					t.Errorf("%d parts: mask.zarr/.zattrs does not hold the manifest (%v)", n, err)
+				}
+			}
+			// Merging twice gives the same bytes.
+			out := filepath.Join(dir, "p7")
+			if err := runMerge(context.Background(), &streams{out: &bytes.Buffer{}, err: &bytes.Buffer{}}, mergeOptions{Dir: out}); err != nil {
+				t.Fatal(err)
+			}
+			if m, _ := os.ReadFile(filepath.Join(out, masks.ManifestFile)); !bytes.Equal(m, manifest) {
+				t.Errorf("a second merge changed manifest.json")
+			}
+		})
+	}
+}
+
+// TestMergeRefuses: merge names a missing part, a part built from another
+// scene, and a folder that holds no parts, with exit code 2.
+func TestMergeRefuses(t *testing.T) {
+	sc := partTestScenes()[2]
+	dir := t.TempDir()
+	input := partTestWrite(t, dir, sc)
+	out := filepath.Join(dir, "m")
+	partTestBuild(t, input, sc, out, "1/3")
+	partTestBuild(t, input, sc, out, "3/3")
+	merge := func() (int, string) {
+		var buf bytes.Buffer
+		code := run([]string{"merge", out}, nil, &buf, &buf)
+		return code, buf.String()
+	}
+	if code, msg := merge(); code != 2 || !strings.Contains(msg, "part 2 of 3 has not finished") || !strings.Contains(msg, "2-of-3.json") {
+		t.Errorf("merge with part 2 missing: exit %d, %q; want 2 naming part 2", code, msg)
+	}
+	if _, err := os.Stat(filepath.Join(out, masks.ManifestFile)); err == nil {
+		t.Errorf("a refused merge wrote manifest.json")
+	}
+	// Part 2 from a drawing with a moved hole: another scene.
+	other := sc
+	other.files = map[string]string{"ring.svg": strings.Replace(sc.files["ring.svg"], "L 40.2 24", "L 40.2 25", 1)}
+	otherDir := t.TempDir()
+	partTestBuild(t, partTestWrite(t, otherDir, other), other, out, "2/3")
+	if code, msg := merge(); code != 2 || !strings.Contains(msg, "part 2 of 3 was built from another scene") {
+		t.Errorf("merge with a foreign part 2: exit %d, %q; want 2 naming part 2", code, msg)
+	}
+	partTestBuild(t, input, sc, out, "2/3")
+	if code, msg := merge(); code != 0 {
+		t.Errorf("merge after rebuilding part 2: exit %d, %q", code, msg)
+	}
+	var buf bytes.Buffer
+	if code := run([]string{"merge", dir}, nil, &buf, &buf); code != 2 || !strings.Contains(buf.String(), "no part records") {
+		t.Errorf("merge of a folder without a store: exit %d, %q", code, buf.String())
+	}
+}
