@@ -14,6 +14,7 @@ import (
 
 	"chimask/importers"
 	"chimask/masks"
+	"chimask/validate"
 	"chimask/voxelize"
 )
 
@@ -79,14 +80,23 @@ func TestReport3DSlice(t *testing.T) {
 		t.Fatal(err)
 	}
 	m.Surfaces = []masks.Surface{{ID: 1, Name: "cube", Emissivity: 0.8}}
+	// A failed check below the shown layer gets its zoom window on its own
+	// layer (z = 0.15 m is in layer 4: -0.25 + 0.1 k <= z < -0.15 + 0.1 k).
+	chk := &validate.CheckReport{Dim: 3, CellM: []float64{0.1, 0.1, 0.1}, Checks: []validate.Check{
+		{Name: "gap width", Subject: "cube", Measured: 0.05, Threshold: 0.2, Unit: "m", Cells: 0.5, Location: []float64{1, 0.5, 0.15}}}}
 	src := &repSource{Dir: t.TempDir(), Title: "cube", Mask: m, Man: masks.NewManifest(m, masks.Provenance{}), Slice: -1,
-		Segs: func(z float64) []pvSeg { return pvMeshSegs(mesh, z) }}
+		Segs: func(z float64) []pvSeg { return pvMeshSegs(mesh, z) }, Check: chk}
 	r, err := writeReport(src)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if r.Grid.Slice == nil || *r.Grid.Slice != 7 || r.Grid.SliceZ == nil || *r.Grid.SliceZ < 0.5-1e-12 || *r.Grid.SliceZ > 0.5+1e-12 {
 		t.Fatalf("report slice %v at %v, want layer 7 at z = 0.5 m", r.Grid.Slice, r.Grid.SliceZ)
+	}
+	if f := r.Check.Failures; len(f) != 1 || f[0].Slice == nil || *f[0].Slice != 4 || f[0].Picture == "" {
+		t.Errorf("failures %+v, want one on layer 4 with a zoom window", f)
+	} else if _, err := os.Stat(filepath.Join(src.Dir, f[0].Picture)); err != nil {
+		t.Error(err)
 	}
 	fh, err := os.Open(filepath.Join(src.Dir, "report_fraction.png"))
 	if err != nil {
