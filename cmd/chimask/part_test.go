@@ -12,6 +12,7 @@ import (
 	"testing"
 
 	"chimask/masks"
+	"chimask/validate"
 )
 
 // partTestIcosphereSTL returns an ASCII STL icosphere (subdivided level
@@ -84,7 +85,7 @@ func partTestScenes() []partTestScene {
 			"two.toml": "[[geometry]]\nfile = \"two.svg\"\nunits = \"mm\"\nextrude = { from = \"0 mm\", to = \"12 mm\" }\n[grid]\ncell = \"1.25 mm\"\npadding = \"2 mm\"\n"},
 			input: "two.toml", chunks: "8,24,24"},
 		{name: "2D ring", files: map[string]string{"ring.svg": ring}, input: "ring.svg",
-			grid: gridFlags{Units: "mm", Cells: "200,150", Bounds: "0,0,80mm,60mm"}, chunks: "40,50"},
+			grid: gridFlags{Units: "mm", Cells: "200,150", Bounds: "0,-60mm,80mm,0"}, chunks: "40,50"},
 	}
 }
 
@@ -177,6 +178,9 @@ func TestPartsMatchWhole(t *testing.T) {
 			input := partTestWrite(t, dir, sc)
 			ref := filepath.Join(dir, "dense.zarr")
 			b := partTestDense(t, input, sc, ref)
+			if solidMeasure(b) <= 0 {
+				t.Fatalf("the dense mask holds no solid: the grid misses the drawing")
+			}
 			want := partTestChunkFiles(t, ref)
 			var manifest []byte
 			for _, n := range []int{1, 2, 3, 7} {
@@ -274,5 +278,75 @@ func TestMergeRefuses(t *testing.T) {
 	var buf bytes.Buffer
 	if code := run([]string{"merge", dir}, nil, &buf, &buf); code != 2 || !strings.Contains(buf.String(), "no part records") {
 		t.Errorf("merge of a folder without a store: exit %d, %q", code, buf.String())
+	}
+}
+
+// TestMergeFindsLeakAcrossChunks: a cavity whose right wall (0.3 cells
+// thick, between the centres of cells 39 and 40) no cell centre falls in
+// is joined to the outside by the mask; the wall lies on the face between
+// chunks 0 and 1 along x, so only the union across chunk faces can see it.
+// Merge must report the leak between the outside (0) and the cavity at the
+// wall, x = 40 mm, first at the cavity's lowest row (y = -49.5 mm), as the
+// whole-grid check (validate.CheckComponents) does on the dense mask.
+func TestMergeFindsLeakAcrossChunks(t *testing.T) {
+	sc := partTestScene{name: "pierced wall", input: "box.svg", chunks: "35,40",
+		grid: gridFlags{Units: "mm", Cells: "80,70", Bounds: "0,-70mm,80mm,0"}, // SVG's y runs down: the drawing lies at y < 0
+		files: map[string]string{"box.svg": `<svg xmlns="http://www.w3.org/2000/svg" width="80mm" height="70mm" viewBox="0 0 80 70">
+<path id="WALL" fill-rule="evenodd" d="M 10 10 L 40.15 10 L 40.15 60 L 10 60 Z M 20 20 L 39.85 20 L 39.85 50 L 20 50 Z"/>
+</svg>`}}
+	dir := t.TempDir()
+	input := partTestWrite(t, dir, sc)
+	out := filepath.Join(dir, "leak")
+	partTestBuild(t, input, sc, out, "1/2")
+	partTestBuild(t, input, sc, out, "2/2")
+	var buf bytes.Buffer
+	if err := runMerge(context.Background(), &streams{out: &buf, err: &buf}, mergeOptions{Dir: out}); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(buf.String(), "leak: fluid regions 0 and") || !strings.Contains(buf.String(), "first at (40 mm, -49.5 mm)") {
+		t.Errorf("merge output does not report the leak at (40 mm, -49.5 mm):\n%s", buf.String())
+	}
+	data, err := os.ReadFile(filepath.Join(out, masks.ManifestFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var man struct {
+		Statistics struct {
+			Components struct {
+				Leaks []struct {
+					Regions  []int32   `json:"regions"`
+					Location []float64 `json:"location_m"`
+					Pairs    int       `json:"pairs"`
+				} `json:"leaks"`
+				Fluid int `json:"fluid_components"`
+			} `json:"components"`
+		} `json:"statistics"`
+	}
+	if err := json.Unmarshal(data, &man); err != nil {
+		t.Fatal(err)
+	}
+	leaks := man.Statistics.Components.Leaks
+	if len(leaks) != 1 || leaks[0].Regions[0] != 0 || len(leaks[0].Location) != 2 ||
+		math.Abs(leaks[0].Location[0]-0.040) > 1e-9 || math.Abs(leaks[0].Location[1]+0.0495) > 1e-9 {
+		t.Fatalf("leaks = %+v, want one between 0 and the cavity at (0.040, -0.0495) m", leaks)
+	}
+	// The cavity's side of the pierced wall is 30 cells tall: one pair a row.
+	if leaks[0].Pairs != 30 {
+		t.Errorf("leak pairs = %d, want 30 (rows 20..49 of the wall)", leaks[0].Pairs)
+	}
+	// The whole-grid check on the dense mask agrees.
+	b := partTestDense(t, input, sc, filepath.Join(dir, "dense.zarr"))
+	lab, err := validate.OutlineLabels(context.Background(), b.Model.Outline, b.Grid)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep, err := validate.CheckComponents(context.Background(), b.Mask, lab, validate.FaceConnected)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rep.Leaks) != 1 || rep.Leaks[0].Regions != [2]int32{leaks[0].Regions[0], leaks[0].Regions[1]} ||
+		math.Abs(rep.Leaks[0].Location[0]-leaks[0].Location[0]) > 1e-12 || math.Abs(rep.Leaks[0].Location[1]-leaks[0].Location[1]) > 1e-12 ||
+		rep.FluidComponents != man.Statistics.Components.Fluid {
+		t.Errorf("whole-grid check: leaks %+v, %d fluid components; merge: %+v, %d", rep.Leaks, rep.FluidComponents, leaks, man.Statistics.Components.Fluid)
 	}
 }
