@@ -91,7 +91,7 @@ func MaskViewFactors(ctx context.Context, m *masks.Mask, opts RayOptions) (*View
 	sc.facets = opts.MaskHits == FacetHits
 	v.Rays = vfRaysFor(v.Area, opts)
 	v.Seed = opts.seed()
-	hits, lost, err := vfRun(ctx, v.Rays, v.Seed, opts.workers(), func() vfShooter { return sc })
+	hits, lost, err := vfRun(ctx, v.Rays, v.Seed, opts.workers(), opts.Progress, func() vfShooter { return sc })
 	if err != nil {
 		return nil, err
 	}

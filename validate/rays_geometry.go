@@ -115,7 +115,7 @@ func OutlineViewFactors(ctx context.Context, o *importers.Outline, surfaceIDs []
 	sg.bucket()
 	v.Rays = vfRaysFor(v.Area, opts)
 	v.Seed = opts.seed()
-	hits, lost, err := vfRun(ctx, v.Rays, v.Seed, opts.workers(), func() vfShooter { return sg })
+	hits, lost, err := vfRun(ctx, v.Rays, v.Seed, opts.workers(), opts.Progress, func() vfShooter { return sg })
 	if err != nil {
 		return nil, err
 	}

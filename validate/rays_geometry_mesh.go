@@ -97,7 +97,7 @@ func vfMeshViewFactors(ctx context.Context, m *importers.Mesh, surfaceIDs []int,
 	}
 	v.Rays = vfRaysFor(v.Area, opts)
 	v.Seed = opts.seed()
-	hits, lost, err := vfRun(ctx, v.Rays, v.Seed, opts.workers(), func() vfShooter { return sc })
+	hits, lost, err := vfRun(ctx, v.Rays, v.Seed, opts.workers(), opts.Progress, func() vfShooter { return sc })
 	if err != nil {
 		return nil, err
 	}

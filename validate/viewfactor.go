@@ -7,6 +7,7 @@ import (
 	"math/rand/v2"
 	"runtime"
 	"sync"
+	"sync/atomic"
 )
 
 // Open is the name of the last column of a view-factor matrix: rays that
@@ -131,7 +132,10 @@ type vfShooterFactory func() vfShooter
 // split into blocks of vfBlockRays rays, numbered surface by surface, is
 // fixed; block b uses the stream PCG(seed, b). Counts are integers, so the
 // reduction is exact whatever the order.
-func vfRun(ctx context.Context, rays []int64, seed uint64, workers int, newShooter vfShooterFactory) ([][]int64, []int64, error) {
+//
+// progress, when not nil, is called after every block with the rays traced
+// so far and the total, from the worker goroutines.
+func vfRun(ctx context.Context, rays []int64, seed uint64, workers int, progress func(done, total int64), newShooter vfShooterFactory) ([][]int64, []int64, error) {
 	ns := len(rays)
 	type block struct {
 		s     int
@@ -159,6 +163,11 @@ func vfRun(ctx context.Context, rays []int64, seed uint64, workers int, newShoot
 		counts []int64 // ns+1 columns, then lost
 	}
 	results := make([]result, len(blocks))
+	var total int64
+	for _, n := range rays {
+		total += n
+	}
+	var traced atomic.Int64
 	var next int64
 	var mu sync.Mutex
 	var wg sync.WaitGroup
@@ -196,6 +205,9 @@ func vfRun(ctx context.Context, rays []int64, seed uint64, workers int, newShoot
 					}
 				}
 				results[b].counts = c
+				if progress != nil {
+					progress(traced.Add(bl.n), total)
+				}
 			}
 		}()
 	}

@@ -5,6 +5,7 @@ import (
 	"context"
 	"math"
 	"slices"
+	"sync/atomic"
 
 	"chimask/masks"
 )
@@ -68,7 +69,12 @@ func (g *o2Geom) voxelize(ctx context.Context, out o2Outputs, opts Options) erro
 		}
 	}
 	coarse := g.newCoarse()
+	// Progress counts bands of the main pass, the bulk of the work.
+	var bandsDone atomic.Int64
 	err := outlineRun(ctx, g.nBands(), nw, func(w, b int) {
+		if opts.Progress != nil {
+			defer func() { opts.Progress(bandsDone.Add(1), int64(g.nBands())) }()
+		}
 		sc := &scratch[w]
 		g.coverBand(b, &cover, out.frac, &sc.cover)
 		g.nearestBand(b, &near, labels, sc, p.r)
