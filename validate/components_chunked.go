@@ -273,7 +273,11 @@ func ccFaceCells(runs []int32, want int) ([][2]int32, error) {
 // (a solid component holding two bodies). Components are joined by
 // union-find over the pairs of face cells two neighbouring chunks share;
 // a contact across a chunk face counts like one inside a chunk. chunks
-// must cover the grid exactly once (any order). LostBodies and LostCavities
+// must cover the grid exactly once (any order). One difference from
+// CheckComponents: a component holding two regions that touch nowhere
+// (cells the mask and the labels disagree on, left unresolved, lie between
+// them) is still reported, with a NaN Location and Pairs 0, where
+// CheckComponents reports only regions that touch. LostBodies and LostCavities
 // are not reported: a chunk only knows the labels it holds. Cost: linear
 // in the face cells and components, with no whole-grid array.
 func MergeChunkComponents(ctx context.Context, g masks.Grid, chunks []*ChunkComponents) (*ComponentReport, error) {
