@@ -147,7 +147,7 @@ func preparePartBuild(ctx context.Context, s *streams, sc *Scene, f gridFlags, c
 	for a := range 3 {
 		boxCells *= all[0].Block.Hi[a] - all[0].Block.Lo[a]
 	}
-	streaming := m.Dim == 3 && len(m.Mesh.Surfaces) <= 1 && partSingleSurface(m)
+	streaming := m.Dim == 3 && partSingleSurface(m) // what lets voxelize.PrepareMesh stream
 	need := estimateBuildBytes(g)
 	if streaming {
 		need = voxelize.EstimateChunksMemory(g, len(m.Mesh.Triangles), boxCells, workers) + int64(workers)*int64(boxCells)*16
@@ -271,7 +271,13 @@ func runPartBuild(ctx context.Context, s *streams, sc *Scene, f gridFlags, chunk
 	if !pb.chunks.Streaming() {
 		mode = "computed whole, then chunked"
 	}
-	fmt.Fprintf(s.out, "part %d of %d%s: chunks %d to %d of %d (%s) written to %s\n", spec.K, spec.N, src, first, end, len(all), mode, pb.store)
+	what := fmt.Sprintf("chunks %d..%d", first, end-1)
+	if end-first == 1 {
+		what = fmt.Sprintf("chunk %d", first)
+	} else if end == first {
+		what = "no chunk"
+	}
+	fmt.Fprintf(s.out, "part %d of %d%s: %s of %d (%s) written to %s\n", spec.K, spec.N, src, what, len(all), mode, pb.store)
 	if p.parted() {
 		fmt.Fprintf(s.out, "when every part has finished: chimask merge %s\n", pb.b.OutDir)
 		return nil
