@@ -28,6 +28,13 @@ const asmDefaultRelTol = 1e-9
 // counts as a gap rather than an open end: 1000 x tolerance.
 const asmGapFactor = 1000
 
+// asmMaxCoord is the largest coordinate magnitude Assemble accepts, in
+// metres. No furnace or receiver is 1e12 m across, and beyond it products
+// of coordinates lose the small terms an area or a crossing test needs:
+// a fuzzed loop with one corner at 1e232 m was kept as a solid of zero
+// area. Common practice, no source; STL uses the same bound.
+const asmMaxCoord = 1e12
+
 // asmMaxListed caps the problems listed per kind; the rest are counted in a
 // warning so a broken file cannot produce a report larger than itself.
 const asmMaxListed = 200
@@ -262,6 +269,11 @@ func (s *asmState) collect(ds []*Drawing) error {
 					return &InputError{File: d.File, Line: pl.Line, Offset: -1, Entity: pl.Where,
 						What: fmt.Sprintf("coordinate (%g, %g) is not a finite number", q.X, q.Y),
 						Hint: "the file holds an invalid number; export it again from CAD"}
+				}
+				if !(math.Abs(q.X) <= asmMaxCoord && math.Abs(q.Y) <= asmMaxCoord) {
+					return &InputError{File: d.File, Line: pl.Line, Offset: -1, Entity: pl.Where,
+						What: fmt.Sprintf("coordinate (%g, %g) m is beyond %g m", q.X, q.Y, asmMaxCoord),
+						Hint: "check the drawing's unit and scale (SVG viewBox, DXF block scale factors); the file may be damaged"}
 				}
 				lo.X, lo.Y = min(lo.X, q.X), min(lo.Y, q.Y)
 				hi.X, hi.Y = max(hi.X, q.X), max(hi.Y, q.Y)
