@@ -3,6 +3,7 @@ package importers
 import (
 	"math"
 	"slices"
+	"sync"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -274,8 +275,21 @@ func (x *MeshIndex) buildNode(ni, lo, hi int, cent []r3.Vec, depth int) {
 	}
 	first := len(x.nodes)
 	x.nodes = append(x.nodes, bvhNode{}, bvhNode{})
-	x.buildNode(first, lo, mid, cent, depth+1)
-	x.buildNode(first+1, mid, hi, cent, depth+1)
+	if depth < miParallelDepth && hi-lo >= miParallelMin {
+		// The two halves touch disjoint ranges of tris and cent: build
+		// them at once into their own node lists, then splice those in
+		// the order the serial build appends them (same tree, same bits).
+		l := &MeshIndex{tris: x.tris, nodes: make([]bvhNode, 1, 2*((mid-lo)/bvhLeafSize+1))}
+		r := &MeshIndex{tris: x.tris, nodes: make([]bvhNode, 1, 2*((hi-mid)/bvhLeafSize+1))}
+		var wg sync.WaitGroup
+		wg.Go(func() { l.buildNode(0, lo, mid, cent, depth+1) })
+		r.buildNode(0, mid, hi, cent, depth+1)
+		wg.Wait()
+		x.miSplice(first, l.nodes, r.nodes)
+	} else {
+		x.buildNode(first, lo, mid, cent, depth+1)
+		x.buildNode(first+1, mid, hi, cent, depth+1)
+	}
 	nd.first = int32(first)
 	l, r := &x.nodes[first], &x.nodes[first+1]
 	nd.area = r3.Add(l.area, r.area)
@@ -287,6 +301,38 @@ func (x *MeshIndex) buildNode(ni, lo, hi int, cent []r3.Vec, depth int) {
 	}
 	nd.radius = max(r3.Norm(r3.Sub(nd.centre, l.centre))+l.radius, r3.Norm(r3.Sub(nd.centre, r.centre))+r.radius)
 	x.nodes[ni] = nd
+}
+
+// miParallelDepth and miParallelMin: the top two levels of a tree over at
+// least 65536 triangles are built on parallel goroutines (four at most), so
+// the serial part of a large build shrinks without many small goroutines.
+const (
+	miParallelDepth = 2
+	miParallelMin   = 1 << 16
+)
+
+// miSplice places the subtrees l and r, each built with its root at index
+// 0 and its descendants appended after it, as the children at first and
+// first+1 with their descendants after them: l's, then r's, which is the
+// layout the serial depth-first build produces. Child links are remapped;
+// leaf ranges index tris and stay.
+func (x *MeshIndex) miSplice(first int, l, r []bvhNode) {
+	remap := func(nd bvhNode, base int) bvhNode {
+		if nd.count == 0 {
+			nd.first = int32(base + int(nd.first))
+		}
+		return nd
+	}
+	lBase := first + 1      // local index i >= 1 of l goes to first+1+i
+	rBase := first + len(l) // local index i >= 1 of r goes to first+len(l)+i
+	x.nodes[first] = remap(l[0], lBase)
+	x.nodes[first+1] = remap(r[0], rBase)
+	for _, nd := range l[1:] {
+		x.nodes = append(x.nodes, remap(nd, lBase))
+	}
+	for _, nd := range r[1:] {
+		x.nodes = append(x.nodes, remap(nd, rBase))
+	}
 }
 
 // leafMoments sets the area vector, centroid and enclosing radius of a leaf.

@@ -25,7 +25,7 @@ const m3CosOpposite = -0.5
 
 // m3ScratchPerCell is the block scratch in bytes per cell, for
 // EstimateMeshMemory.
-const m3ScratchPerCell = 8 + 4 + 1 + 24 + 4*m3MaxNear + 1 + 1 + 4 + 4
+const m3ScratchPerCell = 8 + 4 + 1 + 24 + 4*m3MaxNear + 1 + 1 + 4 + 4 + 8
 
 // m3Scratch is one worker's reusable block buffers.
 type m3Scratch struct {
@@ -42,6 +42,11 @@ type m3Scratch struct {
 	poly    pcPoly
 	pn      [][3]float64
 	pphi    []float64
+
+	// ub is rasterAll's per-cell upper bound on the squared distance (m^2),
+	// used by raster only while ubOn.
+	ub   []float64
+	ubOn bool
 }
 
 func newM3Scratch() any {
@@ -49,7 +54,7 @@ func newM3Scratch() any {
 	return &m3Scratch{
 		d2: make([]float64, n), tri: make([]int32, n), feat: make([]uint8, n), q: make([]r3.Vec, n),
 		near: make([]int32, n*m3MaxNear), nearN: make([]uint8, n), sgn: make([]int8, n),
-		conf: make([]float32, n), area: make([]float64, n), rowSign: make([]int8, m3BlockSize*m3BlockSize),
+		conf: make([]float32, n), area: make([]float64, n), rowSign: make([]int8, m3BlockSize*m3BlockSize), ub: make([]float64, n),
 	}
 }
 
@@ -78,9 +83,7 @@ func (j *m3Job) block(b int, s *m3Scratch) {
 		j.far[b] = true
 		return
 	}
-	for _, t := range j.binTri[j.binStart[b]:j.binStart[b+1]] {
-		j.raster(blk, n, int(t), s)
-	}
+	j.rasterAll(b, blk, n, s)
 	// Sign of the band cells from their own closest feature.
 	for c := range nc {
 		t := s.tri[c]
@@ -155,6 +158,8 @@ func (j *m3Job) raster(blk masks.Block, n [3]int, t int, s *m3Scratch) {
 	// solid side.
 	sh := r3.Scale(-1e-9*j.hmin, fn)
 	sa, sb, sc := m3Arr(r3.Add(va, sh)), m3Arr(r3.Add(vb, sh)), m3Arr(r3.Add(vc, sh))
+	fnA := m3Arr(fn)
+	soff := fnA[0]*sa[0] + fnA[1]*sa[1] + fnA[2]*sa[2]
 	var tlo, thi [3]float64
 	for a := range 3 {
 		tlo[a], thi[a] = min(sa[a], sb[a], sc[a]), max(sa[a], sb[a], sc[a])
@@ -200,14 +205,18 @@ func (j *m3Job) raster(blk masks.Block, n [3]int, t int, s *m3Scratch) {
 				p := r3.Vec{X: j.g.Origin[0] + (float64(i)+0.5)*hx, Y: p0.Y, Z: p0.Z}
 				pd := pd0 + fn.X*(p.X-p0.X)
 				pd2 := pd * pd
-				if pd2 >= s.d2[c] && pd2 > r2 {
+				if (pd2 >= s.d2[c] || (s.ubOn && pd2 > s.ub[c])) && pd2 > r2 {
 					continue
 				}
-				if dc2 := (p.X-ctr.X)*(p.X-ctr.X) + dyz2; dc2 > rad*rad {
+				dc2 := (p.X-ctr.X)*(p.X-ctr.X) + dyz2
+				if dc2 > rad*rad {
 					lb := math.Sqrt(dc2) - rad
-					if lb2 := lb * lb; lb2 >= s.d2[c] && lb2 > r2 {
+					if lb2 := lb * lb; (lb2 >= s.d2[c] || (s.ubOn && lb2 > s.ub[c])) && lb2 > r2 {
 						continue
 					}
+				}
+				if s.ubOn && mpFarSkip(pd2, dc2, rad, s.ub[c], r2*(1+mpSlackRel)+mpSlackAbs*j.hmin*j.hmin) {
+					continue
 				}
 				q, d2, f := j.x.ClosestOnTriangle(p, t)
 				if d2 < s.d2[c] {
@@ -218,7 +227,7 @@ func (j *m3Job) raster(blk masks.Block, n [3]int, t int, s *m3Scratch) {
 					clo := [3]float64{p.X - hx/2, p.Y - hy/2, p.Z - hz/2}
 					chi := [3]float64{p.X + hx/2, p.Y + hy/2, p.Z + hz/2}
 					if tlo[0] <= chi[0] && tlo[1] <= chi[1] && tlo[2] <= chi[2] && thi[0] >= clo[0] && thi[1] >= clo[1] && thi[2] >= clo[2] {
-						s.area[c] += pcTriangleInBox(sa, sb, sc, clo, chi)
+						s.area[c] += mpTriangleInBox(sa, sb, sc, clo, chi, fnA, soff)
 					}
 				}
 			}
