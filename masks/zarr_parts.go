@@ -81,13 +81,6 @@ func WriteZarrLayout(dir string, g Grid, fields []*Field, man *Manifest, opts Za
 	return nil
 }
 
-// NewManifestFor is NewManifest for a mask whose fields are templates
-// (WriteZarrLayout): the field entries come from names, dtypes and
-// components only.
-func NewManifestFor(g Grid, fields []*Field, surfaces []Surface, materials []Material, p Provenance) *Manifest {
-	return NewManifest(&Mask{Grid: g, Fields: fields, Surfaces: surfaces, Materials: materials}, p)
-}
-
 // ZarrChunkWriter writes single chunk files of a store from box-layout
 // values, for a build that computes a chunk's fields once and writes each
 // of them before moving on (WriteZarrChunks asks for one field at a time).
