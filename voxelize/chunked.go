@@ -32,6 +32,11 @@ import (
 //     dense fields once and Compute copies boxes out of them: the values
 //     are the dense ones by construction, and memory is that of the dense
 //     build (Streaming reports false).
+//
+// MeshBlocks also streams, but hands out the whole grid in block order and
+// decides far blocks and the tags beyond the band inside each block, so its
+// values may differ from Mesh's there; Chunks serves any box, in any order,
+// from any process, with Mesh's values.
 type Chunks struct {
 	g         masks.Grid
 	templates []*masks.Field

@@ -178,12 +178,7 @@ func mergeReadRecords(store string) ([]*partRecord, error) {
 	}
 	for _, r := range recs[1:] {
 		if r.SceneHash != recs[0].SceneHash {
-			what := "its scene, inputs or options differ"
-			a, _ := json.Marshal(r.Grid)
-			b, _ := json.Marshal(recs[0].Grid)
-			if string(a) != string(b) {
-				what = fmt.Sprintf("its grid differs (%s against %s)", a, b)
-			}
+			what := mergeDifference(recs[0], r)
 			return nil, &usageError{msg: fmt.Sprintf("part %d of %d was built from another scene than part 1 (scene hash %.12s, part 1 %.12s): %s", r.Part, n, r.SceneHash, recs[0].SceneHash, what),
 				hint: fmt.Sprintf("build part %d again from the same scene and inputs as the others", r.Part)}
 		}
@@ -327,4 +322,36 @@ func mergeFormatPoint(p [3]float64, dim int) string {
 		s += formatLength(p[a])
 	}
 	return s
+}
+
+// mergeDifference names what makes part r's scene differ from part 1's:
+// the grid, an input file (by path and SHA-256), the version, an option,
+// the store layout, or the surface tables.
+func mergeDifference(first, r *partRecord) string {
+	js := func(v any) string { b, _ := json.Marshal(v); return string(b) }
+	if a, b := js(r.Grid), js(first.Grid); a != b {
+		return fmt.Sprintf("its grid differs (%s against %s)", a, b)
+	}
+	in1, in2 := first.Manifest.Provenance.Inputs, r.Manifest.Provenance.Inputs
+	for i := range max(len(in1), len(in2)) {
+		switch {
+		case i >= len(in1):
+			return fmt.Sprintf("it read an extra input %s", in2[i].Path)
+		case i >= len(in2):
+			return fmt.Sprintf("it did not read input %s", in1[i].Path)
+		case in1[i].Path != in2[i].Path || in1[i].SHA256 != in2[i].SHA256 || in1[i].Unit != in2[i].Unit:
+			return fmt.Sprintf("input %s differs (sha256 %.12s, unit %q; part 1 read %s, sha256 %.12s, unit %q)",
+				in2[i].Path, in2[i].SHA256, in2[i].Unit, in1[i].Path, in1[i].SHA256, in1[i].Unit)
+		}
+	}
+	if first.Manifest.Provenance.Version != r.Manifest.Provenance.Version {
+		return fmt.Sprintf("it was built by chimask %s, part 1 by %s", r.Manifest.Provenance.Version, first.Manifest.Provenance.Version)
+	}
+	if a, b := js(r.Manifest.Provenance.Options), js(first.Manifest.Provenance.Options); a != b {
+		return "its options (scene [grid]/[mask] tables or flags) differ"
+	}
+	if a, b := js(r.Zarr), js(first.Zarr); a != b {
+		return fmt.Sprintf("its store layout differs (%s against %s)", a, b)
+	}
+	return "its surfaces, materials or fields differ"
 }

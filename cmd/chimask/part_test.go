@@ -268,7 +268,7 @@ func TestMergeRefuses(t *testing.T) {
 	other.files = map[string]string{"ring.svg": strings.Replace(sc.files["ring.svg"], "L 40.2 24", "L 40.2 25", 1)}
 	otherDir := t.TempDir()
 	partTestBuild(t, partTestWrite(t, otherDir, other), other, out, "2/3")
-	if code, msg := merge(); code != 2 || !strings.Contains(msg, "part 2 of 3 was built from another scene") {
+	if code, msg := merge(); code != 2 || !strings.Contains(msg, "part 2 of 3 was built from another scene") || !strings.Contains(msg, "input "+filepath.Join(otherDir, "ring.svg")+" differs") {
 		t.Errorf("merge with a foreign part 2: exit %d, %q; want 2 naming part 2", code, msg)
 	}
 	partTestBuild(t, input, sc, out, "2/3")
