@@ -322,6 +322,9 @@ type m3Job struct {
 	// outLocal: the bound output slices hold one block, x fastest from
 	// its Lo corner, instead of the whole grid (MeshBlocks' workers).
 	outLocal bool
+	// tagsFilled: one surface, and the bound output already holds its
+	// tags in every cell, so write leaves them (MeshBlocks' buffers).
+	tagsFilled bool
 }
 
 type m3BlockResult struct {

@@ -378,7 +378,9 @@ func (j *m3Job) write(blk masks.Block, n [3]int, s *m3Scratch, res *m3BlockResul
 				case len(j.mesh.Triangles) == 0:
 					j.tw[gi] = float32(math.NaN())
 				case j.single:
-					j.tag(gi, single)
+					if !j.tagsFilled {
+						j.tag(gi, single)
+					}
 				default:
 					j.sid[gi] = t + 1 // a triangle, replaced by its surface in tags
 				}

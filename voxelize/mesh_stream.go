@@ -28,11 +28,14 @@ type BlockSink func(b masks.Block, fields []*masks.Field) error
 // called from the calling goroutine only, strictly in block order, so a
 // writer needs no locking and its output does not depend on the number of
 // workers. The blocks are computed ahead by opts.workers() goroutines into a
-// small ring of reused block buffers (workers + 2 sets of about 1.7 MB), so
-// memory is the index, the triangle bins and that ring, whatever the grid
-// size, and no fresh output page is ever touched: on machines where first
-// touch of new memory runs near 0.6 GB/s this is several times faster than
-// Mesh on large grids.
+// small ring of reused block buffers (workers + 2 sets of about 1.7 MB);
+// blocks no surface comes near share one read-only buffer per sign and
+// block extent (at most 16) when their content cannot differ (pseudonormal
+// sign, one surface). So memory is the index, the triangle bins and those
+// buffers, whatever the grid size, and no fresh output page is touched per
+// block: on machines where first touch of new memory runs near 0.6 GB/s
+// this is several times faster than Mesh on large grids. The sink may be
+// handed the same shared arrays for many blocks; it must not write to them.
 //
 // Every value equals the one Mesh computes for the same cell, except in two
 // places where Mesh looks beyond a block. (1) A block no surface comes
@@ -83,14 +86,17 @@ func MeshBlocks(ctx context.Context, m *importers.Mesh, g masks.Grid, opts Optio
 // msBuffer is one set of block-sized output fields with the worker view of
 // the job bound to them.
 type msBuffer struct {
-	b int
-	w *m3Job
-	// tmpl, when tmplOK, is the far block the buffer holds now: a far
-	// block with the same sign, confidence and extent is already written.
-	tmplOK bool
-	tmpl   msFarKey
+	w      *m3Job
 	fields []*masks.Field // capacity of a full block
 	view   []*masks.Field // the same arrays cut to the current block
+}
+
+// msResult is a finished block: its own buffer, or a shared far template
+// that goes back to no pool.
+type msResult struct {
+	b      int
+	buf    *msBuffer
+	shared bool
 }
 
 // msClone returns a copy of j's read-only state with no output bound, so a
@@ -121,6 +127,15 @@ func (j *m3Job) msNewBuffer() *msBuffer {
 		buf.view[i] = &v
 	}
 	buf.w.bind(fields)
+	if j.single && len(j.mesh.Triangles) > 0 {
+		// One surface tags every cell alike: write its row once, and
+		// write leaves it.
+		su := j.tagTable[m3TriSurface(j.mesh, 0)]
+		for c := range fields[0].Len() {
+			buf.w.tag(c, su)
+		}
+		buf.w.tagsFilled = true
+	}
 	return buf
 }
 
@@ -145,9 +160,10 @@ func (j *m3Job) msStream(ctx context.Context, sink BlockSink) error {
 	for range nbuf {
 		free <- j.msNewBuffer()
 	}
-	done := make(chan *msBuffer, nbuf)
+	done := make(chan msResult, nbuf)
 	stop := make(chan struct{})
 	var next atomic.Int64
+	tm := &msTemplates{byKey: map[msFarKey]*msBuffer{}}
 	var wg sync.WaitGroup
 	for range workers {
 		wg.Add(1)
@@ -165,9 +181,13 @@ func (j *m3Job) msStream(ctx context.Context, sink BlockSink) error {
 				if b >= nb || ctx.Err() != nil {
 					return
 				}
-				buf.b = b
+				if t := j.msFarTemplate(b, tm); t != nil {
+					free <- buf // never blocks: this worker took it from free
+					done <- msResult{b: b, buf: t, shared: true}
+					continue
+				}
 				buf.compute(b, s)
-				done <- buf
+				done <- msResult{b: b, buf: buf}
 			}
 		}()
 	}
@@ -176,17 +196,18 @@ func (j *m3Job) msStream(ctx context.Context, sink BlockSink) error {
 		wg.Wait()
 		return err
 	}
-	pending := make(map[int]*msBuffer, nbuf)
+	pending := make(map[int]msResult, nbuf)
 	for e := range nb {
-		for pending[e] == nil {
+		for pending[e].buf == nil {
 			select {
-			case buf := <-done:
-				pending[buf.b] = buf
+			case r := <-done:
+				pending[r.b] = r
 			case <-ctx.Done():
 				return finish(ctx.Err())
 			}
 		}
-		buf := pending[e]
+		r := pending[e]
+		buf := r.buf
 		delete(pending, e)
 		nc := m3BlockCells(j.blocks[e])
 		for i, f := range buf.fields {
@@ -209,7 +230,9 @@ func (j *m3Job) msStream(ctx context.Context, sink BlockSink) error {
 		if j.opts.Progress != nil {
 			j.opts.Progress(int64(e+1), int64(nb))
 		}
-		free <- buf
+		if !r.shared {
+			free <- buf
+		}
 	}
 	return finish(ctx.Err())
 }
@@ -218,49 +241,76 @@ func m3BlockCells(b masks.Block) int {
 	return (b.Hi[0] - b.Lo[0]) * (b.Hi[1] - b.Lo[1]) * (b.Hi[2] - b.Lo[2])
 }
 
-// msFarKey is what the content of a far block depends on when one surface
-// (or none) tags every cell.
+// msFarKey is what the content of a far block depends on when its
+// confidence is 1 and one surface (or none) tags every cell.
 type msFarKey struct {
 	sign int8
-	conf float32
 	n    [3]int
 }
 
+// msTemplates holds one written far block per sign and extent, shared
+// read-only by every far block like it.
+type msTemplates struct {
+	mu    sync.Mutex
+	byKey map[msFarKey]*msBuffer
+}
+
+// msFarTemplate returns the shared template for far block b, writing it
+// the first time, or nil when b is not far or its content is not shared
+// (winding numbers, whose confidence varies, or several surfaces, whose
+// tags vary). It adds b's volume to its result slot as write would.
+func (j *m3Job) msFarTemplate(b int, tm *msTemplates) *msBuffer {
+	if j.binStart[b] != j.binStart[b+1] || j.winding || (!j.single && len(j.mesh.Triangles) > 0) {
+		return nil
+	}
+	blk := j.blocks[b]
+	j.far[b] = true
+	res := &j.results[b]
+	sg, conf := j.directSign(j.centre(blk.Lo[0], blk.Lo[1], blk.Lo[2]), res)
+	key := msFarKey{sign: sg, n: [3]int{blk.Hi[0] - blk.Lo[0], blk.Hi[1] - blk.Lo[1], blk.Hi[2] - blk.Lo[2]}}
+	tm.mu.Lock()
+	defer tm.mu.Unlock()
+	t := tm.byKey[key]
+	if t == nil {
+		t = j.msNewBuffer()
+		s := newM3Scratch().(*m3Scratch)
+		var scratchRes m3BlockResult
+		t.w.msFarWrite(b, s, sg, conf, &scratchRes)
+		tm.byKey[key] = t
+	}
+	if sg < 0 {
+		res.volume += float64(m3BlockCells(blk))
+	}
+	return t
+}
+
+// msFarWrite is farBlock with the block's result going to res.
+func (j *m3Job) msFarWrite(b int, s *m3Scratch, sg int8, conf float32, res *m3BlockResult) {
+	blk := j.blocks[b]
+	var n [3]int
+	for a := range 3 {
+		n[a] = blk.Hi[a] - blk.Lo[a]
+	}
+	for c := range n[0] * n[1] * n[2] {
+		s.tri[c], s.sgn[c], s.conf[c] = -1, sg, conf
+	}
+	j.write(blk, n, s, res)
+}
+
 // compute computes block b into the buffer. The fields are cleared first
-// because write stores only non-zero values. A far block identical to the
-// one the buffer already holds (same sign, confidence and extent, one
-// surface) is left as it is, with its volume and confidence counts added:
-// most of a large grid is such blocks.
+// because write stores only non-zero values.
 func (buf *msBuffer) compute(b int, s *m3Scratch) {
 	j := buf.w
 	blk := j.blocks[b]
 	nc := m3BlockCells(blk)
+	j.msClear(nc)
 	if j.binStart[b] == j.binStart[b+1] {
 		j.far[b] = true
-		res := &j.results[b]
-		sg, conf := j.directSign(j.centre(blk.Lo[0], blk.Lo[1], blk.Lo[2]), res)
-		key := msFarKey{sign: sg, conf: conf, n: [3]int{blk.Hi[0] - blk.Lo[0], blk.Hi[1] - blk.Lo[1], blk.Hi[2] - blk.Lo[2]}}
-		reuse := j.single || len(j.mesh.Triangles) == 0
-		if reuse && buf.tmplOK && buf.tmpl == key {
-			if sg < 0 {
-				res.volume += float64(nc)
-			}
-			if j.conf != nil && conf < m3LowConfidence {
-				res.lowConf += nc
-			}
-			return
-		}
-		j.msClear(nc)
+		sg, conf := j.directSign(j.centre(blk.Lo[0], blk.Lo[1], blk.Lo[2]), &j.results[b])
 		j.farBlock(b, s, sg, conf)
-		if !reuse {
-			j.msTags(b)
-		}
-		buf.tmplOK, buf.tmpl = reuse, key
-		return
+	} else {
+		j.block(b, s)
 	}
-	buf.tmplOK = false
-	j.msClear(nc)
-	j.block(b, s)
 	if !j.single && len(j.mesh.Triangles) > 0 {
 		j.msTags(b)
 	}
@@ -273,9 +323,11 @@ func (j *m3Job) msClear(nc int) {
 	clear(j.nrm[:3*nc])
 	clear(j.dens[:nc])
 	clear(j.region[:nc])
-	clear(j.sid[:nc])
-	clear(j.em[:nc])
-	clear(j.mat[:nc])
+	if !j.tagsFilled {
+		clear(j.sid[:nc])
+		clear(j.em[:nc])
+		clear(j.mat[:nc])
+	}
 }
 
 // msTags is m3Job.tags inside one block: the band cells keep their exact
