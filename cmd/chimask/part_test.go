@@ -350,3 +350,31 @@ func TestMergeFindsLeakAcrossChunks(t *testing.T) {
 		t.Errorf("whole-grid check: leaks %+v, %d fluid components; merge: %+v, %d", rep.Leaks, rep.FluidComponents, leaks, man.Statistics.Components.Fluid)
 	}
 }
+
+// TestPartFlagsRefused: a part of a build that would write whole-grid
+// formats, a malformed --part or --zarr-chunks, and --zarr-chunks without
+// a zarr-only build are usage errors (exit 2) that say what to do.
+func TestPartFlagsRefused(t *testing.T) {
+	sc := partTestScenes()[2]
+	dir := t.TempDir()
+	input := partTestWrite(t, dir, sc)
+	base := []string{"build", input, "--units", "mm", "--cells", "200,150", "--bounds=0,-60mm,80mm,0", "--out", filepath.Join(dir, "o"), "--quiet", "--no-report"}
+	for _, tc := range []struct {
+		name string
+		args []string
+		want string
+	}{
+		{"part with vti", []string{"--part", "1/2"}, "add --format zarr"},
+		{"part zero", []string{"--format", "zarr", "--part", "0/2"}, "parts count from 1"},
+		{"part not K/N", []string{"--format", "zarr", "--part", "2"}, "want K/N"},
+		{"chunks of the wrong rank", []string{"--format", "zarr", "--zarr-chunks", "8,8,8"}, "a 2D grid needs 2 sizes"},
+		{"chunks without zarr only", []string{"--format", "zarr,npy", "--zarr-chunks", "8,8"}, "--zarr-chunks applies to a build whose only format is zarr"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var buf bytes.Buffer
+			if code := run(append(append([]string(nil), base...), tc.args...), nil, &buf, &buf); code != 2 || !strings.Contains(buf.String(), tc.want) {
+				t.Errorf("chimask %v: exit %d, %q; want 2 and %q", tc.args, code, buf.String(), tc.want)
+			}
+		})
+	}
+}
