@@ -169,6 +169,9 @@ func (cm *ccMesh) worker() *ccWorker {
 	}
 	j := cm.j
 	c := j.msClone()
+	// Block-local output, cleared before every block, so write stores every
+	// tag itself (MeshBlocks prefills them instead).
+	c.outLocal, c.tagsFilled = true, false
 	c.results = make([]m3BlockResult, len(j.blocks))
 	c.far = make([]bool, len(j.blocks))
 	bg := masks.Grid{Dim: 3, Spacing: j.g.Spacing}
