@@ -12,6 +12,7 @@ import (
 	"testing"
 
 	"chimask/masks"
+	"chimask/samples"
 	"chimask/validate"
 )
 
@@ -376,5 +377,61 @@ func TestPartFlagsRefused(t *testing.T) {
 				t.Errorf("chimask %v: exit %d, %q; want 2 and %q", tc.args, code, buf.String(), tc.want)
 			}
 		})
+	}
+}
+
+// TestPartsComponentsMatchDenseCheck: on the demo receiver extruded to 3D
+// (seven bodies, a cavity open through its aperture) a build in 3 parts
+// reports the component counts, leaks, merges and broken bodies the
+// whole-grid check (validate.CheckComponents with MeshLabels) finds on the
+// dense mask, and as many disagreeing cells.
+func TestPartsComponentsMatchDenseCheck(t *testing.T) {
+	dir := t.TempDir()
+	sc := partTestScene{name: "receiver 3D", input: "r3d.toml", chunks: "16,40,40", files: map[string]string{
+		"receiver.dxf": string(samples.ReceiverDXF),
+		"r3d.toml":     "[[geometry]]\nfile = \"receiver.dxf\"\nunits = \"mm\"\nextrude = { from = \"0 mm\", to = \"30 mm\" }\n[grid]\ncell = \"3 mm\"\npadding = \"6 mm\"\n",
+	}}
+	input := partTestWrite(t, dir, sc)
+	out := filepath.Join(dir, "p")
+	for k := 1; k <= 3; k++ {
+		partTestBuild(t, input, sc, out, fmt.Sprintf("%d/3", k))
+	}
+	if err := runMerge(context.Background(), &streams{out: &bytes.Buffer{}, err: &bytes.Buffer{}}, mergeOptions{Dir: out}); err != nil {
+		t.Fatal(err)
+	}
+	data, err := os.ReadFile(filepath.Join(out, masks.ManifestFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var man struct {
+		Statistics struct {
+			Components struct {
+				Fluid    int   `json:"fluid_components"`
+				Solid    int   `json:"solid_components"`
+				Leaks    []any `json:"leaks"`
+				Merged   []any `json:"merged"`
+				Broken   []any `json:"broken"`
+				Disagree int   `json:"disagree"`
+			} `json:"components"`
+		} `json:"statistics"`
+	}
+	if err := json.Unmarshal(data, &man); err != nil {
+		t.Fatal(err)
+	}
+	got := man.Statistics.Components
+	b := partTestDense(t, input, sc, filepath.Join(dir, "dense.zarr"))
+	lab, err := validate.MeshLabels(context.Background(), b.Model.Mesh, b.Grid)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := validate.CheckComponents(context.Background(), b.Mask, lab, validate.FaceConnected)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got.Fluid != want.FluidComponents || got.Solid != want.SolidComponents || len(got.Leaks) != len(want.Leaks) ||
+		len(got.Merged) != len(want.Merged) || len(got.Broken) != len(want.Broken) || got.Disagree != want.Disagree {
+		t.Errorf("parts: %d fluid, %d solid, %d leaks, %d merged, %d broken, %d disagree; whole-grid check: %d, %d, %d, %d, %d, %d",
+			got.Fluid, got.Solid, len(got.Leaks), len(got.Merged), len(got.Broken), got.Disagree,
+			want.FluidComponents, want.SolidComponents, len(want.Leaks), len(want.Merged), len(want.Broken), want.Disagree)
 	}
 }
