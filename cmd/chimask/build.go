@@ -34,7 +34,7 @@ func addGridFlags(c *cobra.Command, f *gridFlags) {
 	fl.StringSliceVar(&f.Formats, "format", nil, "output formats, repeatable: vti, npy, zarr (default vti and npy)")
 	fl.BoolVar(&f.NoReport, "no-report", false, "do not write report.html, report.json and the preview PNGs")
 	fl.BoolVar(&f.Quiet, "quiet", false, "no progress display on stderr")
-	fl.Var(repSliceFlag{&f.Slice}, "slice", "3D masks: the z layer (cell index) the report's pictures show (default: the middle one)")
+	fl.Var(repSliceFlag{&f.Slice}, "slice", "3D masks: the z layer (cell index) the report's pictures show")
 }
 
 func newBuildCmd(s *streams) *cobra.Command {
@@ -70,7 +70,7 @@ interrupted build leaves the previous output intact.`,
 		},
 	}
 	addGridFlags(c, &o.Grid)
-	c.Flags().StringVar(&o.Part, "part", "", "build part K of N (K from 1) of a chunked zarr build, then run `chimask merge` (default: the rank under mpirun, srun or a Slurm job array)")
+	c.Flags().StringVar(&o.Part, "part", "", "build part `K/N` (K from 1) of a chunked zarr build, then run chimask merge (default: the rank under mpirun, srun or a Slurm job array)")
 	c.Flags().StringVar(&o.Chunk, "zarr-chunks", "", "chunk shape of a zarr-only build in NumPy order, CY,CX or CZ,CY,CX cells (default 512,512 or 64,64,64)")
 	o.Env = os.LookupEnv
 	return c

@@ -47,7 +47,7 @@ drawn is the zero level of the signed distance.`,
 			return runReport(cmd.Context(), s, o)
 		},
 	}
-	c.Flags().IntVar(&o.Slice, "slice", -1, "3D masks: the z layer (cell index) the pictures show (default: the middle one)")
+	c.Flags().IntVar(&o.Slice, "slice", -1, "3D masks: the z layer (cell index) the pictures show; -1 means the middle one")
 	c.Flags().BoolVar(&o.Quiet, "quiet", false, "no progress display on stderr")
 	return c
 }
