@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+	"syscall"
 )
 
 // File names inside an output folder.
@@ -327,6 +328,9 @@ func ReadDir(dir string) (*Mask, *Manifest, error) {
 	if err != nil {
 		if errors.Is(err, os.ErrNotExist) {
 			return nil, nil, &ReadError{File: mpath, Offset: -1, What: "no manifest.json in the folder", Hint: "give the folder a chimask build wrote"}
+		}
+		if errors.Is(err, syscall.ENOTDIR) { // a drawing or a file given where a folder belongs
+			return nil, nil, &ReadError{File: dir, Offset: -1, What: "not a folder", Hint: "give the output folder a chimask build wrote, not a file in it"}
 		}
 		return nil, nil, err
 	}
