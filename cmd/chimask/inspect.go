@@ -5,6 +5,7 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"math"
 	"path/filepath"
 	"sort"
 	"strings"
@@ -50,7 +51,7 @@ Exit code 1 when a drawing cannot bound a solid or a mesh is not watertight,
 		},
 	}
 	c.Flags().StringVar(&o.Units, "units", "", "unit of the files (m, mm, cm, in): wins over a file's own unit; required for STL")
-	c.Flags().StringVar(&o.Tolerance, "tolerance", "", "join tolerance for outline end points, weld tolerance for mesh vertices (default 1e-9 of the box diagonal)")
+	c.Flags().StringVar(&o.Tolerance, "tolerance", "", "join tolerance for outline end points, weld tolerance for mesh vertices (default 1e-9 of the box diagonal for outlines, 1e-7 for meshes as build welds)")
 	return c
 }
 
@@ -167,6 +168,11 @@ func inspectDrawing(w io.Writer, data []byte, name, units string, tol float64) (
 	return false, nil
 }
 
+// inspectMeshWeldRatio is the default mesh weld tolerance relative to the
+// box diagonal: the ratio voxelize uses before it builds an open mesh
+// (m3WeldRatio; common practice, no source).
+const inspectMeshWeldRatio = 1e-7
+
 // inspectMesh prints an STL mesh's diagnostics; bad means it is not watertight
 // or not consistently oriented.
 func inspectMesh(w io.Writer, data []byte, name, units string, tol float64) (bool, error) {
@@ -176,6 +182,14 @@ func inspectMesh(w io.Writer, data []byte, name, units string, tol float64) (boo
 	m, err := importers.ReadSTL(bytes.NewReader(data), name, importers.STLOptions{Unit: units})
 	if err != nil {
 		return false, err
+	}
+	if tol == 0 {
+		// No --tolerance: weld as the build does (voxelize welds an open mesh
+		// within 1e-7 of its box diagonal), so "closed" here means closed there;
+		// zero would weld only identical coordinates and report seams that
+		// differ by round-off as holes.
+		lo, hi := m.Bounds()
+		tol = inspectMeshWeldRatio * math.Sqrt((hi.X-lo.X)*(hi.X-lo.X)+(hi.Y-lo.Y)*(hi.Y-lo.Y)+(hi.Z-lo.Z)*(hi.Z-lo.Z))
 	}
 	rep := importers.DiagnoseMesh(m, tol)
 	fmt.Fprintf(w, "  %d surfaces: %s\n", len(m.Surfaces), strings.Join(m.Surfaces, ", "))

@@ -1,0 +1,58 @@
+package main
+
+import (
+	"bytes"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// inspectTetraSTL is a closed tetrahedron (corners O, X, Y, Z of the unit
+// box, in mm), wound outward, with the corner shared by facets 1 and 4 written
+// as x in one and x2 in the other.
+func inspectTetraSTL(x, x2 string) string {
+	f := func(a, b, c string) string {
+		return fmt.Sprintf("facet normal 0 0 0\nouter loop\nvertex %s\nvertex %s\nvertex %s\nendloop\nendfacet\n", a, b, c)
+	}
+	return "solid tet\n" +
+		f("0 0 0", "0 1 0", x) + // z = 0 face, normal -z
+		f("0 0 0", "1 0 0", "0 0 1") + // y = 0 face, normal -y
+		f("0 0 0", "0 0 1", "0 1 0") + // x = 0 face, normal -x
+		f(x2, "0 1 0", "0 0 1") + // slanted face, normal +(1,1,1)
+		"endsolid tet\n"
+}
+
+// TestInspectMeshDefaultWeld: without --tolerance, inspect must weld as the
+// build does (1e-7 of the box diagonal, as its help says), so a corner written
+// with round-off differences in two facets is one vertex and the mesh is
+// closed; before, the default welded only identical coordinates and called
+// such a mesh "not closed" with holes, while the build welded and closed it.
+func TestInspectMeshDefaultWeld(t *testing.T) {
+	for _, tc := range []struct {
+		name, x, x2 string
+		args        string
+		wantCode    int
+		want        string
+	}{
+		{"identical corners", "1 0 0", "1 0 0", "", 0, "ok: closed and consistently oriented"},
+		{"round-off seam, default weld", "1 0 0", "1.0000000000001 0 0", "", 0, "ok: closed and consistently oriented"},
+		{"real gap, default weld", "1 0 0", "1.001 0 0", "", 1, "boundary edge (hole)"},
+		{"real gap, wide tolerance", "1 0 0", "1.001 0 0", "--tolerance 0.01mm", 0, "ok: closed"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			path := filepath.Join(t.TempDir(), "tet.stl")
+			if err := os.WriteFile(path, []byte(inspectTetraSTL(tc.x, tc.x2)), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			args := append([]string{"inspect", "--units", "mm"}, strings.Fields(tc.args)...)
+			args = append(args, path)
+			var out, errb bytes.Buffer
+			code := run(args, nil, &out, &errb)
+			if code != tc.wantCode || !strings.Contains(out.String(), tc.want) {
+				t.Errorf("chimask %s: exit %d, stdout %q, stderr %q; want exit %d and %q", strings.Join(args, " "), code, out.String(), errb.String(), tc.wantCode, tc.want)
+			}
+		})
+	}
+}
