@@ -213,6 +213,11 @@ func loadAndGrid(ctx context.Context, sc *Scene) (*model, masks.Grid, error) {
 			}
 		}
 	}
+	if sc.Grid.Axisymmetric {
+		if g, err = axisymmetricGrid(g, m.Lo, m.Hi, len(req.Min) > 0); err != nil {
+			return nil, g, sc.errAt(err.Error(), "draw the half-section with the axis at x = 0 and the radius along x >= 0 (a 3D geometry needs no axisymmetric key)", "grid", "axisymmetric")
+		}
+	}
 	return m, g, nil
 }
 

@@ -80,6 +80,26 @@ func makeGrid(req gridRequest, lo, hi [3]float64) (masks.Grid, error) {
 	return g, nil
 }
 
+// axisymmetricGrid applies [grid] axisymmetric = true to a grid placed over
+// the geometry box [lo, hi]: x is the radius, so the section must lie at
+// x >= 0 (within 1e-9 of the box diagonal, the join tolerance's default) and
+// a grid placed automatically starts at the axis, r = 0, instead of padding
+// into r < 0, where a 2 pi r weight is negative. The shift keeps the cell
+// count and spacing, and so still covers the box. An explicit box (min/max,
+// --bounds) is used as given.
+func axisymmetricGrid(g masks.Grid, lo, hi [3]float64, explicit bool) (masks.Grid, error) {
+	if g.Dim != 2 {
+		return g, fmt.Errorf("axisymmetric = true describes a 2D r-z section, but the geometry is %dD", g.Dim)
+	}
+	if tol := 1e-9 * math.Hypot(hi[0]-lo[0], hi[1]-lo[1]); lo[0] < -tol {
+		return g, fmt.Errorf("axisymmetric = true: the section reaches x = %s, but x is the radius and must be >= 0", formatLength(lo[0]))
+	}
+	if !explicit && g.Origin[0] < 0 {
+		g.Origin[0] = 0
+	}
+	return g, nil
+}
+
 // bytesPerCell is what a build holds per cell: the ten output fields (45
 // bytes in 2D, 49 in 3D) plus working arrays of the voxelizer and the
 // writers' buffers, rounded up.
