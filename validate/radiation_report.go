@@ -281,13 +281,14 @@ func NewRadiationReport(c RadiationCase) (*RadiationReport, error) {
 			Note: "max |sum_j F_ij - 1| over rows, open included (CHECKS.md G1); every ray ends somewhere"})
 		add(RadiationCheck{Name: b.name + " reciprocity", Value: rec, Limit: th.ReciprocityTolerance, Pass: rec <= th.ReciprocityTolerance,
 			Note: "max |A_i F_ij - A_j F_ji| / mean over pairs reliable both ways (CHECKS.md G2)"})
+		hs := radHeatScale(b.v, c)
 		balance := func(q []float64) float64 {
 			var s, tot float64
 			for _, x := range q {
 				s += x
 				tot += math.Abs(x)
 			}
-			if tot == 0 {
+			if tot <= radNegligibleHeat*hs { // every surface in equilibrium: the sums are round-off
 				return 0
 			}
 			return math.Abs(s) / tot
@@ -341,7 +342,7 @@ func NewRadiationReport(c RadiationCase) (*RadiationReport, error) {
 	add(RadiationCheck{Name: "factors mask vs geometry", Value: worstExcess, Limit: 1, Pass: factorPass,
 		Note: fmt.Sprintf("largest |F_mask - F_geometry| / (factor_tolerance + max_z*sigma): %.4g against %.4g at the worst entry; max |z| = %.3g", worst, worstLimit, worstZ)})
 	qm, qg := rep.Mask.NetHeat, rep.Geometry.NetHeat
-	var scale float64
+	scale := radNegligibleHeat * radHeatScale(geom, c) // round-off heats are not compared
 	for _, q := range qg {
 		scale = max(scale, math.Abs(q))
 	}
@@ -389,6 +390,40 @@ func radIsothermal(v *ViewFactors, c RadiationCase) (float64, error) {
 		}
 	}
 	return worst, nil
+}
+
+// radNegligibleHeat is the size, relative to radHeatScale, below which a
+// net heat is round-off of the radiosity solve (about 1e-16 per operation
+// on heats of the emitted power's size, times a generous margin; common
+// practice, no source). Without it a case in equilibrium (every surface
+// re-radiating, or at the ambient temperature) divided round-off by
+// round-off and failed its heat balance and net heat checks.
+const radNegligibleHeat = 1e-9
+
+// radHeatScale is the black-body power of all surfaces at the hottest
+// temperature of the case (given temperatures, ambient; 300 K when none),
+// sigma T^4 sum A_i, in W (W/m in 2D), or the largest given net heat if that
+// is larger: the size every net heat is measured against.
+func radHeatScale(v *ViewFactors, c RadiationCase) float64 {
+	tRef := c.AmbientTemperature
+	if !(tRef > 0) {
+		tRef = 300
+	}
+	for _, t := range c.Temperature {
+		if t > tRef {
+			tRef = t
+		}
+	}
+	var area, given float64
+	for _, a := range v.Area {
+		area += a
+	}
+	for _, q := range c.NetHeat {
+		if !math.IsNaN(q) {
+			given = max(given, math.Abs(q))
+		}
+	}
+	return max(StefanBoltzmann*math.Pow(tRef, 4)*area, given)
 }
 
 // radBlock builds one block: factors, residuals, reliability, the heat
