@@ -18,8 +18,9 @@ import (
 // x fastest over the extent b.Hi - b.Lo (cell (i, j, k) of the grid is
 // element (i-b.Lo[0]) + nx*((j-b.Lo[1]) + ny*(k-b.Lo[2])) times the
 // components). The slices are reused for a later block as soon as the sink
-// returns, so a sink that keeps values must copy them. A non-nil error stops
-// the build and is returned by MeshBlocks.
+// returns, so a sink that keeps values must copy them, and it must not
+// write to them (blocks far from the surface may share one array). A
+// non-nil error stops the build and is returned by MeshBlocks.
 type BlockSink func(b masks.Block, fields []*masks.Field) error
 
 // MeshBlocks voxelizes m onto g like Mesh, but hands the fields to sink one
@@ -50,6 +51,9 @@ type BlockSink func(b masks.Block, fields []*masks.Field) error
 // the triangle closest to its centre), where Mesh sweeps the whole grid;
 // band cells carry their exact nearest surface in both. The report's
 // WindingCells counts the far-block queries MeshBlocks makes.
+//
+// opts.Progress, when set, is called after each block with the blocks
+// handed over so far and their total.
 //
 // Errors are Mesh's, plus ctx's error (checked between blocks) and the
 // first error sink returns. Cost: Mesh's, less the first touch of the
