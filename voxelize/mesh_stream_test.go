@@ -200,3 +200,24 @@ func TestMeshBlocksErrors(t *testing.T) {
 		t.Errorf("MeshBlocks with a nil sink: no error")
 	}
 }
+
+func TestMeshBlocksProgress(t *testing.T) {
+	// Property: Progress sees every block once, in order, with a fixed
+	// total equal to the number of blocks, after the sink got it.
+	m := m3TestIcosphere(2, 0.5, r3.Vec{})
+	g := masks.Grid{Dim: 3, Origin: [3]float64{-0.6, -0.6, -0.6}, Spacing: [3]float64{0.015, 0.015, 0.015}, Cells: [3]int{80, 70, 66}}
+	want := int64(len(g.Blocks([3]int{m3BlockSize, m3BlockSize, m3BlockSize})))
+	var sunk, last int64
+	opts := Options{Workers: 2, Progress: func(done, total int64) {
+		if total != want || done != last+1 || done != sunk {
+			t.Errorf("Progress(%d, %d) after %d reports and %d blocks sunk, want (%d, %d)", done, total, last, sunk, last+1, want)
+		}
+		last = done
+	}}
+	if _, err := MeshBlocks(context.Background(), m, g, opts, func(masks.Block, []*masks.Field) error { sunk++; return nil }); err != nil {
+		t.Fatal(err)
+	}
+	if last != want {
+		t.Errorf("Progress ended at %d, want %d", last, want)
+	}
+}
