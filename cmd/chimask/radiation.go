@@ -81,6 +81,9 @@ Exit code 1 when a check fails. Results depend on --seed, never on --workers.`,
 	c.Flags().IntVar(&o.Rays, "rays", 0, "rays per surface (default: the scene's [radiation] rays, else 200000)")
 	c.Flags().Uint64Var(&o.Seed, "seed", 0, "random seed (default: the scene's, else 1)")
 	c.Flags().Float64Var(&o.Ambient, "ambient", math.NaN(), "temperature of the surroundings seen through openings, K (default: the scene's, else 300)")
+	// NaN marks "not given"; the usage text states the real default, so
+	// the help must not also print "(default NaN)" (pflag hides "0" only).
+	c.Flags().Lookup("ambient").DefValue = "0"
 	return c
 }
 
