@@ -180,9 +180,12 @@ func WriteDir(dir string, m *Mask, man *Manifest, formats []string) error {
 // man is nil) whose grid, fields and files entries are regenerated from m and
 // formats, so it always describes exactly what was written; its other
 // entries are kept. A mask.zarr store of an earlier run is replaced as a
-// whole (a mask.zarr folder that is not a store is an error); other files of
-// earlier runs that this run does not rewrite (the .npy of a field since
-// dropped) are left in place. Field names must be usable as file names
+// whole (a mask.zarr folder that is not a store is an error); the .npy files
+// and mask.vti the previous manifest named and this run does not rewrite
+// (a format or field since dropped) are removed after the commit, so the
+// standard names never hold an older mask; other files (a mask.zarr the new
+// formats leave out, anything the old manifest did not name) are left in
+// place. Field names must be usable as file names
 // (letters, digits, '_', '-', '.') and unique. WriteDirContext uses default
 // VTIOptions and ZarrOptions; a caller who needs others writes those files
 // with WriteVTI or WriteZarr itself.
@@ -295,6 +298,11 @@ func WriteDirContext(ctx context.Context, dir string, m *Mask, man *Manifest, fo
 	if err := ctx.Err(); err != nil {
 		return err
 	}
+	var finals []string
+	for _, st := range staged {
+		finals = append(finals, st.final)
+	}
+	stale := outStale(dir, finals)
 	// Commit. A manifest from an earlier run goes first: should a rename
 	// fail, the folder then has no manifest rather than one that vouches
 	// for a mix of old and new files. The new manifest is staged last and
@@ -313,7 +321,47 @@ func WriteDirContext(ctx context.Context, dir string, m *Mask, man *Manifest, fo
 		}
 		staged[i].tmp = "" // renamed: nothing to clean up
 	}
+	for _, p := range stale {
+		if err := os.Remove(p); err != nil && !errors.Is(err, os.ErrNotExist) {
+			return err
+		}
+	}
 	return nil
+}
+
+// outStale lists the .npy files and mask.vti that the manifest already in
+// dir names and this run does not rewrite (finals): left in place they
+// would be the previous mask under the standard names, and np.load of one
+// would silently read the old geometry. A mask.zarr store is not listed (it
+// can hold hours of a parted build; the new manifest simply does not name
+// it), nor is any file the old manifest does not name. An unreadable old
+// manifest lists nothing.
+func outStale(dir string, finals []string) []string {
+	f, err := os.Open(filepath.Join(dir, ManifestFile))
+	if err != nil {
+		return nil
+	}
+	old, err := manRead(f, filepath.Join(dir, ManifestFile))
+	f.Close()
+	if err != nil {
+		return nil
+	}
+	var names []string
+	for _, fl := range old.Fields {
+		if strings.HasSuffix(fl.File, ".npy") && outCheckName(fl.File) == nil {
+			names = append(names, fl.File)
+		}
+	}
+	if old.Files.VTI == VTIFile {
+		names = append(names, VTIFile)
+	}
+	var out []string
+	for _, n := range names {
+		if p := filepath.Join(dir, n); !slices.Contains(finals, p) && !slices.Contains(out, p) {
+			out = append(out, p)
+		}
+	}
+	return out
 }
 
 // ReadDir reads a folder written by WriteDir: the manifest and every field's
