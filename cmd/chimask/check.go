@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -89,9 +90,10 @@ check passes, 1 when one fails, 2 on bad input.`,
 // writes check.json.
 func runCheck(ctx context.Context, s *streams, o checkOptions) error {
 	var mask *masks.Mask
+	var maskMan *masks.Manifest
 	if o.Mask != "" {
 		var err error
-		if mask, _, err = masks.ReadDir(o.Mask); err != nil {
+		if mask, maskMan, err = masks.ReadDir(o.Mask); err != nil {
 			return err
 		}
 		// A drawing given directly takes its cell from the mask.
@@ -105,7 +107,7 @@ func runCheck(ctx context.Context, s *streams, o checkOptions) error {
 	}
 	var b *built
 	if mask != nil {
-		if b, err = checkReadMask(ctx, s, sc, o, mask); err != nil {
+		if b, err = checkReadMask(ctx, s, sc, o, mask, maskMan); err != nil {
 			return err
 		}
 	} else {
@@ -148,7 +150,10 @@ func runCheck(ctx context.Context, s *streams, o checkOptions) error {
 }
 
 // checkReadMask reads the scene's geometry for a mask read from a folder.
-func checkReadMask(ctx context.Context, s *streams, sc *Scene, o checkOptions, mask *masks.Mask) (*built, error) {
+// It refuses a mask whose surfaces table and geometry inputs both differ
+// from the scene's: one built from another drawing, whose surface ids would
+// label the checks with the wrong surfaces.
+func checkReadMask(ctx context.Context, s *streams, sc *Scene, o checkOptions, mask *masks.Mask, man *masks.Manifest) (*built, error) {
 	m, _, err := loadAndGrid(ctx, sc)
 	if err != nil {
 		return nil, err
@@ -166,9 +171,20 @@ func checkReadMask(ctx context.Context, s *streams, sc *Scene, o checkOptions, m
 				Hint: "rebuild it with `chimask build`, which writes every standard field"}
 		}
 	}
-	perIndex, _, _, err := surfaceTable(sc, m.SurfaceNames())
+	perIndex, rows, _, err := surfaceTable(sc, m.SurfaceNames())
 	if err != nil {
 		return nil, err
+	}
+	// The mask's surface_id values index its own table. The same drawing
+	// under other names (a scene's mask checked against the bare drawing)
+	// is fine, and so is an edited drawing with the same surfaces; a table
+	// and inputs that both differ mean another drawing altogether.
+	got, want := checkSurfaceNames(mask.Surfaces), checkSurfaceNames(rows)
+	sameInputs := man != nil && slices.Equal(checkInputHashes(man.Provenance.Inputs), checkInputHashes(m.Inputs))
+	if !slices.Equal(got, want) && !sameInputs {
+		return nil, &importers.InputError{File: o.Mask, Offset: -1,
+			What: fmt.Sprintf("the mask's surfaces %q are not the scene's %q: it was built from another scene or drawing", got, want),
+			Hint: "check the mask against the scene it was built from, or rebuild it with chimask build"}
 	}
 	out := o.Grid.Out
 	if out == "" {
@@ -179,6 +195,28 @@ func checkReadMask(ctx context.Context, s *streams, sc *Scene, o checkOptions, m
 	}
 	return &built{Scene: sc, Model: m, Grid: mask.Grid, Mask: mask, PerIndex: perIndex,
 		Options: sc.maskOptions(o.Grid.Workers, perIndex), OutDir: out}, nil
+}
+
+// checkInputHashes lists the SHA-256 of the geometry inputs (not the scene
+// file), sorted.
+func checkInputHashes(in []masks.InputFile) []string {
+	var out []string
+	for _, f := range in {
+		if f.Role != "scene" {
+			out = append(out, f.SHA256)
+		}
+	}
+	slices.Sort(out)
+	return out
+}
+
+// checkSurfaceNames lists a surfaces table as "id name" rows in id order.
+func checkSurfaceNames(ss []masks.Surface) []string {
+	out := make([]string, len(ss))
+	for i, x := range ss {
+		out[i] = fmt.Sprintf("%d %s", x.ID, x.Name)
+	}
+	return out
 }
 
 // checkBuilt runs the validate checks on a built (or read) mask with the
