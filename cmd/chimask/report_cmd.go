@@ -60,6 +60,9 @@ func runReport(ctx context.Context, s *streams, o reportOptions) error {
 	if err != nil {
 		return err
 	}
+	if g := src.Mask.Grid; g.Dim == 3 && o.Slice >= g.Cells[2] {
+		return &usageError{msg: fmt.Sprintf("--slice %d: the mask has %d z layers (0..%d)", o.Slice, g.Cells[2], g.Cells[2]-1), hint: "give a layer index in range, or -1 for the middle one"}
+	}
 	src.Slice = o.Slice
 	task = progStart(s, o.Quiet, "drawing the report")
 	r, err := writeReport(src)

@@ -17,6 +17,9 @@ func repPictures(src *repSource, r *repReport) error {
 	g := src.Mask.Grid
 	k := src.Slice
 	if k < 0 || k >= g.Cells[2] {
+		if g.Dim == 3 && k >= g.Cells[2] {
+			r.Warnings = append(r.Warnings, fmt.Sprintf("--slice %d is outside the grid's z layers 0..%d: the middle layer %d is shown", k, g.Cells[2]-1, g.Cells[2]/2))
+		}
 		k = g.Cells[2] / 2
 	}
 	sl := pvSliceOf(src.Mask, k)
