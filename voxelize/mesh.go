@@ -481,7 +481,7 @@ func (j *m3Job) bind(fields []*masks.Field) {
 // block index from a shared counter, and each block writes only its own
 // cells and result slot, so the outcome does not depend on the schedule.
 func (j *m3Job) run(ctx context.Context) error {
-	var next atomic.Int64
+	var next, done atomic.Int64
 	var wg sync.WaitGroup
 	var failed atomic.Bool
 	for range min(j.opts.workers(), len(j.blocks)) {
@@ -500,6 +500,9 @@ func (j *m3Job) run(ctx context.Context) error {
 					return
 				}
 				j.block(b, s)
+				if j.opts.Progress != nil {
+					j.opts.Progress(done.Add(1), int64(len(j.blocks)))
+				}
 			}
 		}()
 	}
