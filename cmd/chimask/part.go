@@ -471,7 +471,11 @@ func routeChunked(ctx context.Context, s *streams, sc *Scene, o buildOptions) (b
 	}
 	zarrOnly := len(sc.Output.Formats) == 1 && sc.Output.Formats[0] == "zarr"
 	if p.parted() && !zarrOnly {
-		return true, &usageError{msg: fmt.Sprintf("part %d of %d (%s): a build in parts writes only the chunked zarr store, the scene asks for %v", p.K, p.N, p.Source, sc.Output.Formats),
+		asked := strings.Join(sc.Output.Formats, ", ")
+		if asked == "" {
+			asked = "vti, npy (the default)"
+		}
+		return true, &usageError{msg: fmt.Sprintf("part %d of %d (%s): a build in parts writes only the chunked zarr store, the scene asks for %s", p.K, p.N, p.Source, asked),
 			hint: "add --format zarr (parts cannot write vti or npy, which hold the whole grid)"}
 	}
 	if !zarrOnly {
