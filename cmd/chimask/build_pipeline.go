@@ -92,7 +92,10 @@ func applyGridFlags(sc *Scene, f gridFlags) error {
 	}
 	if f.Cell != "" {
 		v, err := parseLength(f.Cell)
-		if err != nil || !(v > 0) {
+		if err != nil {
+			return &usageError{msg: "--cell must be a positive length (such as 0.5mm): " + err.Error(), hint: "bare numbers are metres"}
+		}
+		if !(v > 0) {
 			return &usageError{msg: "--cell must be a positive length (such as 0.5mm)", hint: "bare numbers are metres"}
 		}
 		l := Length(v)
@@ -129,8 +132,11 @@ func applyGridFlags(sc *Scene, f gridFlags) error {
 	}
 	if f.Pad != "" {
 		v, err := parseLength(f.Pad)
-		if err != nil || v < 0 {
-			return &usageError{msg: "--pad must be a non-negative length"}
+		if err != nil {
+			return &usageError{msg: "--pad must be a non-negative length (such as 2mm): " + err.Error(), hint: "bare numbers are metres"}
+		}
+		if v < 0 {
+			return &usageError{msg: "--pad must be a non-negative length (such as 2mm)", hint: "bare numbers are metres"}
 		}
 		l := Length(v)
 		sc.Grid.Padding = &l
