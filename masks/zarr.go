@@ -175,11 +175,18 @@ func WriteZarrMeta(dir string, m *Mask, man *Manifest, opts ZarrOptions) error {
 	if err := outWriteAtomic(filepath.Join(dir, ".zattrs"), false, 1<<16, func(w io.Writer) error { return WriteManifest(w, man) }); err != nil {
 		return err
 	}
+	return zarrWriteArrayMeta(dir, g, m.Fields, chunks, comp)
+}
+
+// zarrWriteArrayMeta writes every field's .zarray and .zattrs (dimension
+// names, unit, meaning) under dir, creating the array folders. Vector fields
+// get a trailing "component" axis that is never split into chunks.
+func zarrWriteArrayMeta(dir string, g Grid, fields []*Field, chunks []int, comp *zarrCompressor) error {
 	dims := []string{"y", "x"}
 	if g.Dim == 3 {
 		dims = []string{"z", "y", "x"}
 	}
-	for _, f := range m.Fields {
+	for _, f := range fields {
 		adir := filepath.Join(dir, f.Name)
 		if err := os.MkdirAll(adir, 0o755); err != nil {
 			return err

@@ -50,35 +50,7 @@ func WriteZarrLayout(dir string, g Grid, fields []*Field, man *Manifest, opts Za
 			return err
 		}
 	}
-	dims := []string{"y", "x"}
-	if g.Dim == 3 {
-		dims = []string{"z", "y", "x"}
-	}
-	for _, f := range fields {
-		adir := filepath.Join(dir, f.Name)
-		if err := os.MkdirAll(adir, 0o755); err != nil {
-			return err
-		}
-		meta := zarrArrayMeta{ZarrFormat: 2, Shape: npyShape(g, f.Components), Chunks: append([]int(nil), chunks...),
-			DType: npyDescr(f.DType), Compressor: comp, Order: "C", DimensionSeparator: "."}
-		d := append([]string(nil), dims...)
-		if f.Components > 1 {
-			meta.Chunks = append(meta.Chunks, f.Components)
-			d = append(d, "component")
-		}
-		if err := zarrWriteJSON(filepath.Join(adir, ".zarray"), meta); err != nil {
-			return err
-		}
-		attrs := struct {
-			Dims    []string `json:"_ARRAY_DIMENSIONS"`
-			Unit    string   `json:"unit"`
-			Meaning string   `json:"meaning"`
-		}{d, f.Unit, f.Meaning}
-		if err := zarrWriteJSON(filepath.Join(adir, ".zattrs"), attrs); err != nil {
-			return err
-		}
-	}
-	return nil
+	return zarrWriteArrayMeta(dir, g, fields, chunks, comp)
 }
 
 // ZarrChunkWriter writes single chunk files of a store from box-layout
