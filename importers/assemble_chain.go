@@ -352,7 +352,7 @@ func (s *asmState) dropDegenerate(loops []asmLoop) []asmLoop {
 		l.area = a2 / 2
 		if n < 3 || asmFlat(l.pts, s.tol) {
 			s.problem(ProblemDegenerateLoop, l.pts[0], int(l.ref[0]),
-				fmt.Sprintf("closed loop of %s with %d vertices encloses no area (%.3g m²); dropped", s.describe(int(l.ref[0])), n, math.Abs(l.area)))
+				fmt.Sprintf("closed loop of %s with %d vertices encloses no area: all of it lies within the join tolerance %s of one line (its drawn area is %.3g m²; lower the join tolerance to keep it); dropped", s.describe(int(l.ref[0])), n, asmLength(s.tol), math.Abs(l.area)))
 			continue
 		}
 		out = append(out, l)

@@ -121,6 +121,7 @@ func loadModel(ctx context.Context, sc *Scene, chordTol, joinTol float64) (*mode
 					return nil, err
 				}
 				m.Warnings = append(m.Warnings, rep.Warnings...)
+				m.Warnings = append(m.Warnings, assemblyDropped(rep)...)
 				var mesh *importers.Mesh
 				if g.Extrude != nil {
 					role = "extruded"
@@ -144,6 +145,7 @@ func loadModel(ctx context.Context, sc *Scene, chordTol, joinTol float64) (*mode
 		}
 		m.Outline, m.Assembly = o, rep
 		m.Warnings = append(m.Warnings, rep.Warnings...)
+		m.Warnings = append(m.Warnings, assemblyDropped(rep)...)
 		lo, hi := o.Bounds()
 		m.Lo, m.Hi = [3]float64{lo.X, lo.Y, 0}, [3]float64{hi.X, hi.Y, 0}
 	} else {
@@ -162,6 +164,18 @@ func loadModel(ctx context.Context, sc *Scene, chordTol, joinTol float64) (*mode
 		m.Warnings = append(m.Warnings, fmt.Sprintf("the geometry spans %s, which is implausible for thermal equipment: check the units", formatLength(ext)))
 	}
 	return m, nil
+}
+
+// assemblyDropped turns the problems of an assembly that succeeded (loops
+// it dropped as enclosing no area, such as a slot narrower than the join
+// tolerance) into warnings: without them a build silently lost the
+// feature, its surface and its area, and only inspect said so.
+func assemblyDropped(rep *importers.AssemblyReport) []string {
+	var out []string
+	for _, p := range rep.Problems {
+		out = append(out, fmt.Sprintf("%s:%d: %s at (%s, %s) on surface %q: %s", p.File, p.Line, p.Kind, formatLength(p.At.X), formatLength(p.At.Y), p.Surface, p.Detail))
+	}
+	return out
 }
 
 // readDrawing dispatches a 2D file to its reader.
