@@ -136,11 +136,9 @@ func (j *m3Job) mpSeed(blk masks.Block, n [3]int, t int, ub []float64) {
 	}
 }
 
-// mpTriangleInBox is pcTriangleInBox with two shortcuts that leave its
-// result bit for bit the same: a triangle whose plane misses the box by a
-// clear margin (1e-6 of the box size) has no area in it, and a box face
-// that every vertex of the current polygon lies inside is not clipped
-// against (clipping would copy the polygon unchanged). n is the unit
+// mpTriangleInBox is pcTriangleInBox with a shortcut that leaves its result
+// bit for bit the same: a triangle whose plane misses the box by a clear
+// margin (1e-6 of the box size) has no area in it. n is the unit
 // normal and off = n.a the plane offset of the triangle.
 func mpTriangleInBox(a, b, c, lo, hi [3]float64, n [3]float64, off float64) float64 {
 	var ctr, half [3]float64
@@ -151,48 +149,5 @@ func mpTriangleInBox(a, b, c, lo, hi [3]float64, n [3]float64, off float64) floa
 	if d := n[0]*ctr[0] + n[1]*ctr[1] + n[2]*ctr[2] - off; math.Abs(d) > r+1e-6*(half[0]+half[1]+half[2]) {
 		return 0
 	}
-	var bufA, bufB [12][3]float64
-	poly := append(bufA[:0], a, b, c)
-	out := bufB[:0]
-	for ax := range 3 {
-		for side := range 2 {
-			inside := true
-			for _, v := range poly {
-				if (side == 0 && lo[ax]-v[ax] > 0) || (side == 1 && v[ax]-hi[ax] > 0) {
-					inside = false
-					break
-				}
-			}
-			if inside {
-				continue
-			}
-			out = out[:0]
-			for k := range poly {
-				cur, nxt := poly[k], poly[(k+1)%len(poly)]
-				var dc, dn float64
-				if side == 0 {
-					dc, dn = lo[ax]-cur[ax], lo[ax]-nxt[ax]
-				} else {
-					dc, dn = cur[ax]-hi[ax], nxt[ax]-hi[ax]
-				}
-				if dc <= 0 {
-					out = append(out, cur)
-				}
-				if (dc < 0 && dn > 0) || (dc > 0 && dn < 0) {
-					u := dc / (dc - dn)
-					out = append(out, [3]float64{cur[0] + u*(nxt[0]-cur[0]), cur[1] + u*(nxt[1]-cur[1]), cur[2] + u*(nxt[2]-cur[2])})
-				}
-			}
-			if len(out) < 3 {
-				return 0
-			}
-			poly, out = out, poly
-		}
-	}
-	var s [3]float64
-	for k := 1; k+1 < len(poly); k++ {
-		cr := pcCross(pcSub(poly[k], poly[0]), pcSub(poly[k+1], poly[0]))
-		s[0], s[1], s[2] = s[0]+cr[0], s[1]+cr[1], s[2]+cr[2]
-	}
-	return 0.5 * math.Sqrt(s[0]*s[0]+s[1]*s[1]+s[2]*s[2])
+	return pcTriangleInBox(a, b, c, lo, hi)
 }

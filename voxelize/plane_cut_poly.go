@@ -212,6 +212,18 @@ func pcTriangleInBox(a, b, c, lo, hi [3]float64) float64 {
 	out := bufB[:0]
 	for ax := range 3 {
 		for side := range 2 {
+			// A face every vertex lies inside would copy the polygon
+			// unchanged: skip it (same bits, less work).
+			inside := true
+			for _, v := range poly {
+				if (side == 0 && lo[ax]-v[ax] > 0) || (side == 1 && v[ax]-hi[ax] > 0) {
+					inside = false
+					break
+				}
+			}
+			if inside {
+				continue
+			}
 			out = out[:0]
 			for k := range poly {
 				cur, nxt := poly[k], poly[(k+1)%len(poly)]
