@@ -219,6 +219,14 @@ func loadAndGrid(ctx context.Context, sc *Scene) (*model, masks.Grid, error) {
 			}
 		}
 	}
+	ext := 0.0
+	for a := range m.Dim {
+		ext = max(ext, m.Hi[a]-m.Lo[a])
+	}
+	if h := g.MinSpacing(); h > ext {
+		// Usually a bare number meant in mm: "cell = 5" is five metres.
+		m.Warnings = append(m.Warnings, fmt.Sprintf("the cell (%s) is larger than the whole geometry (%s across): bare numbers are metres; write the unit, such as \"5 mm\"", formatLength(h), formatLength(ext)))
+	}
 	if sc.Grid.Axisymmetric {
 		if g, err = axisymmetricGrid(g, m.Lo, m.Hi, len(req.Min) > 0); err != nil {
 			return nil, g, sc.errAt(err.Error(), "draw the half-section with the axis at x = 0 and the radius along x >= 0 (a 3D geometry needs no axisymmetric key)", "grid", "axisymmetric")

@@ -33,3 +33,31 @@ func TestGridFlagErrorsSayWhy(t *testing.T) {
 		})
 	}
 }
+
+// TestCellLargerThanGeometryWarns: a scene's bare "cell = 5" is five metres;
+// on a 20 mm plate that built a few empty cells without a word. The build
+// now warns; a sensible cell does not.
+func TestCellLargerThanGeometryWarns(t *testing.T) {
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "plate.svg"), []byte(`<svg xmlns="http://www.w3.org/2000/svg" width="20mm" height="10mm" viewBox="0 0 20 10"><rect id="plate" x="1" y="1" width="18" height="8"/></svg>`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name, cell string
+		warn       bool
+	}{
+		{"bare number in metres", "5", true},
+		{"millimetres", `"0.5 mm"`, false},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			scene := filepath.Join(dir, "s.toml")
+			if err := os.WriteFile(scene, []byte("[[geometry]]\nfile = \"plate.svg\"\n[grid]\ncell = "+tc.cell+"\n"), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			code, _, stderr := runCLI(t, "build", scene, "--out", filepath.Join(t.TempDir(), "m"), "--no-report", "--quiet")
+			if got := strings.Contains(stderr, "is larger than the whole geometry"); code != exitOK || got != tc.warn {
+				t.Errorf("build with cell = %s: exit %d, warned %v, want 0 and %v; stderr %q", tc.cell, code, got, tc.warn, stderr)
+			}
+		})
+	}
+}
