@@ -146,6 +146,13 @@ func OutlineWidths(ctx context.Context, o *importers.Outline, spacing float64, w
 	if err != nil {
 		return nil, err
 	}
+	w.gather(parts)
+	return w, nil
+}
+
+// gather appends the work blocks' samples and counts to w in block order,
+// so the result does not depend on which worker did which block.
+func (w *Widths) gather(parts []Widths) {
 	for _, p := range parts {
 		w.Walls = append(w.Walls, p.Walls...)
 		w.Gaps = append(w.Gaps, p.Gaps...)
@@ -154,7 +161,6 @@ func OutlineWidths(ctx context.Context, o *importers.Outline, spacing float64, w
 		w.Open += p.Open
 		w.Inconsistent += p.Inconsistent
 	}
-	return w, nil
 }
 
 // wallEdgeBlock is the number of outline edges per work block.

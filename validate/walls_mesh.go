@@ -111,14 +111,7 @@ func MeshWidths(ctx context.Context, m *importers.Mesh, spacing float64, seed ui
 	if err != nil {
 		return nil, err
 	}
-	for _, p := range parts {
-		w.Walls = append(w.Walls, p.Walls...)
-		w.Gaps = append(w.Gaps, p.Gaps...)
-		w.Points += p.Points
-		w.Corner += p.Corner
-		w.Open += p.Open
-		w.Inconsistent += p.Inconsistent
-	}
+	w.gather(parts)
 	return w, nil
 }
 
