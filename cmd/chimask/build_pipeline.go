@@ -250,6 +250,20 @@ func (sc *Scene) maskOptions(workers int, perIndex []masks.Surface) voxelize.Opt
 	return o
 }
 
+// meshAssumptions prints what the voxelizer assumed about a 3D mesh (welded
+// and re-oriented, signs from winding numbers because it has holes, solid
+// outside an inward-wound mesh) and records it in the manifest's warnings:
+// before, these decisions reached neither the user nor the manifest.
+func meshAssumptions(s *streams, b *built) {
+	if b.MeshInfo == nil {
+		return
+	}
+	for _, a := range b.MeshInfo.Assumptions {
+		fmt.Fprintf(s.err, "note: %s\n", a)
+		b.Model.Warnings = append(b.Model.Warnings, a)
+	}
+}
+
 // buildScene reads, grids and voxelizes a scene. It refuses, before
 // allocating, a grid whose fields would not fit in the memory available.
 func buildScene(ctx context.Context, s *streams, sc *Scene, f gridFlags) (*built, error) {
@@ -288,6 +302,7 @@ func buildScene(ctx context.Context, s *streams, sc *Scene, f gridFlags) (*built
 	if err != nil {
 		return nil, err
 	}
+	meshAssumptions(s, b)
 	b.Mask.Surfaces, b.Mask.Materials = rows, mats
 	b.OutDir = f.Out
 	if b.OutDir == "" {

@@ -176,6 +176,7 @@ func preparePartBuild(ctx context.Context, s *streams, sc *Scene, f gridFlags, c
 	if err != nil {
 		return nil, err
 	}
+	meshAssumptions(s, b)
 	b.Mask = &masks.Mask{Grid: g, Fields: pb.chunks.Fields(), Surfaces: rows, Materials: mats}
 	b.OutDir = f.Out
 	if b.OutDir == "" {
