@@ -228,7 +228,11 @@ func printMeshReport(w io.Writer, r *importers.MeshReport) {
 	if n := len(r.Duplicates); n > 0 {
 		fmt.Fprintf(w, "  problem: %d duplicate facets, first %v\n", n, r.Duplicates[:min(n, maxListed)])
 	}
-	if r.Flipped > 0 {
+	insideOut := r.Flipped > 0 && len(r.InconsistentEdges) == 0 // every edge agrees: whole shells face inward
+	switch {
+	case insideOut:
+		fmt.Fprintf(w, "  problem: %d facets face inward, consistently with their neighbours: the mesh is inside out (a build flips them)\n", r.Flipped)
+	case r.Flipped > 0:
 		fmt.Fprintf(w, "  problem: %d facets wound against their neighbours (a build flips them)\n", r.Flipped)
 	}
 	if r.InconsistentShells > 0 {
@@ -237,6 +241,8 @@ func printMeshReport(w io.Writer, r *importers.MeshReport) {
 	switch {
 	case r.Watertight && r.Oriented:
 		fmt.Fprintln(w, "  ok: closed and consistently oriented")
+	case r.Watertight && insideOut:
+		fmt.Fprintln(w, "  closed but inside out (normals point into the solid): a build flips it")
 	case r.Watertight:
 		fmt.Fprintln(w, "  closed but not consistently oriented: a build reorients it")
 	default:

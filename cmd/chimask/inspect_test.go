@@ -56,3 +56,30 @@ func TestInspectMeshDefaultWeld(t *testing.T) {
 		})
 	}
 }
+
+// TestInspectInsideOutMesh: a closed mesh whose facets all face inward is
+// inside out, not "wound against their neighbours" (every edge agrees with
+// its neighbour); inspect must say which, and still exit 1.
+func TestInspectInsideOutMesh(t *testing.T) {
+	// inspectTetraSTL with every facet's last two corners swapped.
+	f := func(a, b, c string) string {
+		return fmt.Sprintf("facet normal 0 0 0\nouter loop\nvertex %s\nvertex %s\nvertex %s\nendloop\nendfacet\n", a, b, c)
+	}
+	inward := "solid tet\n" + f("0 0 0", "1 0 0", "0 1 0") + f("0 0 0", "0 0 1", "1 0 0") + f("0 0 0", "0 1 0", "0 0 1") + f("1 0 0", "0 0 1", "0 1 0") + "endsolid tet\n"
+	for _, tc := range []struct{ name, stl, want, notWant string }{
+		{"inside out", inward, "the mesh is inside out", "wound against their neighbours"},
+		{"outward", inspectTetraSTL("1 0 0", "1 0 0"), "ok: closed and consistently oriented", "inside out"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			path := filepath.Join(t.TempDir(), "tet.stl")
+			if err := os.WriteFile(path, []byte(tc.stl), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			var out, errb bytes.Buffer
+			run([]string{"inspect", "--units", "mm", path}, nil, &out, &errb)
+			if !strings.Contains(out.String(), tc.want) || strings.Contains(out.String(), tc.notWant) {
+				t.Errorf("chimask inspect %s: stdout %q; want %q and not %q", tc.name, out.String(), tc.want, tc.notWant)
+			}
+		})
+	}
+}
