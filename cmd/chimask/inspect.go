@@ -72,6 +72,7 @@ func runInspect(ctx context.Context, s *streams, o inspectOptions) error {
 		}
 	}
 	failed := 0
+	var unreadable []error
 	for i, name := range o.Files {
 		if err := ctx.Err(); err != nil {
 			return err
@@ -81,7 +82,14 @@ func runInspect(ctx context.Context, s *streams, o inspectOptions) error {
 		}
 		data, sum, err := readSource(name)
 		if err != nil {
-			return err
+			if len(o.Files) == 1 {
+				return err
+			}
+			// One unreadable file of many: say so and go on, so that
+			// `inspect *.dxf` reports every file; the run still exits 2.
+			fmt.Fprintf(s.out, "%s\n  cannot read: %v\n", name, err)
+			unreadable = append(unreadable, err)
+			continue
 		}
 		fmt.Fprintf(s.out, "%s (%d bytes, sha256 %s)\n", name, len(data), sum[:16])
 		var bad bool
@@ -94,11 +102,23 @@ func runInspect(ctx context.Context, s *streams, o inspectOptions) error {
 			return &usageError{msg: fmt.Sprintf("%s: unknown extension; inspect reads .dxf, .svg and .stl", name)}
 		}
 		if err != nil {
-			return err
+			if len(o.Files) == 1 {
+				return err
+			}
+			fmt.Fprintf(s.out, "  cannot read: %v\n", err)
+			unreadable = append(unreadable, err)
+			continue
 		}
 		if bad {
 			failed++
 		}
+	}
+	if len(unreadable) > 0 {
+		// The first error keeps its type (InputError: exit 2, its hint).
+		if len(unreadable) > 1 {
+			return fmt.Errorf("%d of %d files cannot be read (listed above), first: %w", len(unreadable), len(o.Files), unreadable[0])
+		}
+		return unreadable[0]
 	}
 	if failed > 0 {
 		return &checkFailedError{msg: fmt.Sprintf("%d of %d files have problems (listed above)", failed, len(o.Files))}

@@ -83,3 +83,41 @@ func TestInspectInsideOutMesh(t *testing.T) {
 		})
 	}
 }
+
+// TestInspectGoesOnAfterAnUnreadableFile: `inspect a b c` with a damaged
+// b stopped at b and never reported c. It now reports every file, lists
+// the unreadable ones in place and still exits 2 with the first error's hint.
+func TestInspectGoesOnAfterAnUnreadableFile(t *testing.T) {
+	dir := t.TempDir()
+	good := filepath.Join(dir, "good.svg")
+	bad := filepath.Join(dir, "bad.svg")
+	if err := os.WriteFile(good, []byte(`<svg xmlns="http://www.w3.org/2000/svg" width="10mm" height="10mm" viewBox="0 0 10 10"><rect id="plate" x="1" y="1" width="8" height="8"/></svg>`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(bad, []byte(`<svg xmlns="http://www.w3.org/2000/svg"><path d="M0 0 L`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name  string
+		files []string
+		code  int
+		want  []string
+	}{
+		{"bad first", []string{bad, good}, exitBadInput, []string{"cannot read:", "good.svg (", "ok: the outline bounds solid regions"}},
+		{"bad last", []string{good, bad}, exitBadInput, []string{"ok: the outline bounds solid regions", "cannot read:"}},
+		{"only good", []string{good}, exitOK, []string{"ok: the outline"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var out, errb bytes.Buffer
+			code := run(append([]string{"inspect"}, tc.files...), nil, &out, &errb)
+			for _, w := range tc.want {
+				if !strings.Contains(out.String(), w) {
+					t.Errorf("inspect %v: stdout lacks %q:\n%s", tc.files, w, out.String())
+				}
+			}
+			if code != tc.code || (code == exitBadInput && !strings.Contains(errb.String(), "hint:")) {
+				t.Errorf("inspect %v: exit %d, stderr %q; want %d (and a hint when 2)", tc.files, code, errb.String(), tc.code)
+			}
+		})
+	}
+}
