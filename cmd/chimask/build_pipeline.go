@@ -264,6 +264,16 @@ func meshAssumptions(s *streams, b *built) {
 	}
 }
 
+// outDirUsable refuses an output folder path that names an existing file
+// (a drawing given as --out by mistake): before, the build ran and then
+// failed with "mkdir: not a directory" and exit 1, without a hint.
+func outDirUsable(dir string) error {
+	if fi, err := os.Stat(dir); err == nil && !fi.IsDir() {
+		return &usageError{msg: fmt.Sprintf("the output folder %s is a file, not a folder", dir), hint: "give --out a folder (it is created when missing)"}
+	}
+	return nil
+}
+
 // buildScene reads, grids and voxelizes a scene. It refuses, before
 // allocating, a grid whose fields would not fit in the memory available.
 func buildScene(ctx context.Context, s *streams, sc *Scene, f gridFlags) (*built, error) {
@@ -310,6 +320,9 @@ func buildScene(ctx context.Context, s *streams, sc *Scene, f gridFlags) (*built
 		if sc.Output.Folder == "" {
 			b.OutDir = sc.resolve(strings.TrimSuffix(filepath.Base(sc.path), filepath.Ext(sc.path)) + "-mask")
 		}
+	}
+	if err := outDirUsable(b.OutDir); err != nil {
+		return nil, err
 	}
 	b.Formats = sc.Output.Formats
 	if len(b.Formats) == 0 {

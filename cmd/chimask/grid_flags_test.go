@@ -61,3 +61,34 @@ func TestCellLargerThanGeometryWarns(t *testing.T) {
 		})
 	}
 }
+
+// TestOutIsAFile: --out naming an existing file (the drawing itself, by a
+// slip) was accepted, the build ran, and writing failed with "mkdir ...: not
+// a directory", exit 1 and no hint. It is now a usage error, and the file is
+// left as it was.
+func TestOutIsAFile(t *testing.T) {
+	dir := t.TempDir()
+	svg := filepath.Join(dir, "plate.svg")
+	data := []byte(`<svg xmlns="http://www.w3.org/2000/svg" width="20mm" height="10mm" viewBox="0 0 20 10"><rect id="plate" x="1" y="1" width="18" height="8"/></svg>`)
+	if err := os.WriteFile(svg, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, cmd := range []string{"build", "check", "radiation"} {
+		t.Run(cmd, func(t *testing.T) {
+			args := []string{cmd, svg, "--cell", "1mm", "--out", svg, "--quiet", "--no-report"}
+			if cmd == "check" {
+				args = append(args, "--no-search")
+			}
+			if cmd == "radiation" {
+				args = append(args, "--rays", "100")
+			}
+			code, _, stderr := runCLI(t, args...)
+			if code != exitBadInput || !strings.Contains(stderr, "is a file, not a folder") || !strings.Contains(stderr, "hint:") {
+				t.Errorf("chimask %s --out FILE: exit %d, stderr %q; want 2, 'is a file, not a folder' and a hint", cmd, code, stderr)
+			}
+			if got, err := os.ReadFile(svg); err != nil || string(got) != string(data) {
+				t.Errorf("chimask %s --out FILE changed the file: %v", cmd, err)
+			}
+		})
+	}
+}

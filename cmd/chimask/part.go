@@ -185,6 +185,9 @@ func preparePartBuild(ctx context.Context, s *streams, sc *Scene, f gridFlags, c
 			b.OutDir = sc.resolve(strings.TrimSuffix(filepath.Base(sc.path), filepath.Ext(sc.path)) + "-mask")
 		}
 	}
+	if err := outDirUsable(b.OutDir); err != nil {
+		return nil, err
+	}
 	pb.store = filepath.Join(b.OutDir, masks.ZarrDir)
 	man := manifestFor(b)
 	man.Statistics = nil
