@@ -74,3 +74,37 @@ func TestAxisymmetricSceneExit2(t *testing.T) {
 		t.Errorf("a refused build left an output folder")
 	}
 }
+
+// TestRadiationRefusesAxisymmetric: the ray tracers are planar in 2D, so on
+// an r-z section they returned a slab's view factors and a net heat in W/m
+// as if the body were extruded, without a word. radiation now refuses such
+// a scene (exit 2, the key's line, a hint to revolve it instead).
+func TestRadiationRefusesAxisymmetric(t *testing.T) {
+	dir := t.TempDir()
+	svg := `<svg xmlns="http://www.w3.org/2000/svg" width="40mm" height="40mm" viewBox="0 0 40 40"><rect id="ring" x="20" y="10" width="10" height="20"/></svg>`
+	if err := os.WriteFile(filepath.Join(dir, "ring.svg"), []byte(svg), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name, grid string
+		code       int
+	}{
+		{"axisymmetric", "axisymmetric = true\n", exitBadInput},
+		{"planar", "", exitOK},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			path := filepath.Join(dir, "ring.toml")
+			scene := "[[geometry]]\nfile = \"ring.svg\"\n[grid]\ncell = \"1 mm\"\n" + tc.grid
+			if err := os.WriteFile(path, []byte(scene), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			code, _, stderr := runCLI(t, "radiation", path, "--rays", "200", "--no-report", "--quiet", "--out", filepath.Join(t.TempDir(), "r"))
+			if tc.code == exitBadInput && (code != exitBadInput || !strings.Contains(stderr, "ring.toml:5:") || !strings.Contains(stderr, "hint:")) {
+				t.Errorf("chimask radiation (axisymmetric): exit %d, stderr %q; want 2, ring.toml:5: and a hint", code, stderr)
+			}
+			if tc.code == exitOK && code != exitOK && code != exitCheckFail {
+				t.Errorf("chimask radiation (planar): exit %d, stderr %q", code, stderr)
+			}
+		})
+	}
+}

@@ -93,6 +93,13 @@ func runRadiation(ctx context.Context, s *streams, o radiationOptions) error {
 	if err != nil {
 		return err
 	}
+	if sc.Grid.Axisymmetric {
+		// The ray tracers are planar in 2D: on an r-z section they would
+		// give the factors of a slab extruded along z, not of the body of
+		// revolution, and a net heat per metre of depth.
+		return sc.errAt("radiation traces planar 2D or 3D geometry; an axisymmetric r-z section would be treated as an extruded slab, giving wrong view factors and net heat",
+			"revolve the section into 3D for radiation: revolve = { segments = 0 } in its [[geometry]] table, without axisymmetric", "grid", "axisymmetric")
+	}
 	b, err := buildScene(ctx, s, sc, o.Grid)
 	if err != nil {
 		return err
