@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"fmt"
 	"io"
@@ -47,13 +48,23 @@ func runDemo(ctx context.Context, s *streams, o demoOptions) error {
 	if err := os.MkdirAll(o.Out, 0o755); err != nil {
 		return &usageError{msg: fmt.Sprintf("cannot create %s: %v", o.Out, unwrapPath(err)), hint: "choose another --out folder"}
 	}
-	for _, f := range []struct {
+	files := []struct {
 		name string
 		data []byte
 	}{
 		{"receiver.dxf", samples.ReceiverDXF}, {"receiver.svg", samples.ReceiverSVG},
 		{"receiver.toml", samples.ReceiverScene}, {"receiver-svg.toml", samples.ReceiverSVGScene},
-	} {
+	}
+	// The scenes are meant to be edited in place; a second demo run must
+	// not silently put the samples back over someone's edits.
+	for _, f := range files {
+		path := filepath.Join(o.Out, f.name)
+		if old, err := os.ReadFile(path); err == nil && !bytes.Equal(old, f.data) {
+			return &usageError{msg: fmt.Sprintf("%s exists and differs from the sample; demo would overwrite it", path),
+				hint: "run the demo into another --out folder, or build your edited scene with chimask build"}
+		}
+	}
+	for _, f := range files {
 		path := filepath.Join(o.Out, f.name)
 		err := masks.WriteFileAtomic(path, func(w io.Writer) error { _, err := w.Write(f.data); return err })
 		if err != nil {
