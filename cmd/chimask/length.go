@@ -78,6 +78,8 @@ func formatLength(m float64) string {
 	switch {
 	case a == 0:
 		return "0 m"
+	case a < 1e-9: // round-off of a coordinate meant to be zero: "-1.602e-13 um" read like a unit slip
+		return fmt.Sprintf("%.4g m", m)
 	case a < 1e-3:
 		return fmt.Sprintf("%.4g um", m*1e6)
 	case a < 1:
