@@ -282,6 +282,7 @@ func checkSpacingSearch(ctx context.Context, sc *Scene, f gridFlags, b *built, r
 	if cur.Pass {
 		best = 0
 	}
+	finer := 0 // candidates tried finer than the scene's grid
 	for i := 0; ; i++ {
 		h := checkRoundDown(start / math.Pow(checkSearchRatio, float64(i)))
 		if best >= 0 && h <= trials[best].CellM*1.0001 {
@@ -292,8 +293,11 @@ func checkSpacingSearch(ctx context.Context, sc *Scene, f gridFlags, b *built, r
 		// they are all tried: a fixed count stopped a sphere's search at
 		// 3.3 mm and recommended the 0.5 mm grid although 2 mm passes.
 		// Finer candidates, each dearer than the scene, are counted.
-		if i >= checkSearchTries && h < h0*0.9999 {
-			break
+		if h < h0*0.9999 {
+			if finer >= checkSearchTries {
+				break
+			}
+			finer++
 		}
 		if math.Abs(h-h0) <= 1e-9*h0 {
 			if !cur.Pass {
