@@ -127,3 +127,42 @@ func TestRadiationReciprocityNoiseAware(t *testing.T) {
 		})
 	}
 }
+
+// TestNetRadiationFloatingEnclosure: a sealed sub-enclosure of re-radiating
+// surfaces (the inside of a slot or tube bore without a wall temperature)
+// has zero net heat and no temperature level. Before, NetRadiation called
+// the whole system singular, so `chimask radiation tile.dxf` on any drawing
+// with a sealed hole and no temperatures exited 1. Now its surfaces get zero
+// heat and an undetermined (NaN) temperature, and the rest is solved as
+// before. Property: the outside surface's heat equals the closed form of a
+// single gray surface seeing only black surroundings, q = e sigma T^4 A
+// (Stefan-Boltzmann law with Kirchhoff's e = alpha).
+func TestNetRadiationFloatingEnclosure(t *testing.T) {
+	nan := math.NaN()
+	enc := Enclosure{
+		// 0: outer surface seeing only the open side; 1, 2: a sealed slot.
+		F:                  [][]float64{{0, 0, 0, 1}, {0, 0.2, 0.8, 0}, {0, 0.8, 0.2, 0}},
+		Area:               []float64{2, 0.5, 0.5},
+		Emissivity:         []float64{0.7, 0.9, 0.9},
+		Temperature:        []float64{900, nan, nan},
+		AmbientTemperature: 0,
+	}
+	x, err := NetRadiation(enc)
+	if err != nil {
+		t.Fatalf("NetRadiation(sealed re-radiating slot) = %v, want a solution", err)
+	}
+	want := 0.7 * StefanBoltzmann * math.Pow(900, 4) * 2
+	if math.Abs(x.NetHeat[0]-want) > 1e-9*want {
+		t.Errorf("outer q = %.6g W, want %.6g W", x.NetHeat[0], want)
+	}
+	for _, i := range []int{1, 2} {
+		if x.NetHeat[i] != 0 || !math.IsNaN(x.Temperature[i]) {
+			t.Errorf("slot surface %d: q %g, T %g; want 0 and NaN (undetermined)", i, x.NetHeat[i], x.Temperature[i])
+		}
+	}
+	// The same slot with heats that cannot cancel has no solution.
+	enc.NetHeat = []float64{0, 3, 0}
+	if _, err := NetRadiation(enc); err == nil {
+		t.Errorf("NetRadiation(sealed slot with q = 3 W) = nil error, want an error")
+	}
+}

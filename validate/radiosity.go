@@ -45,6 +45,61 @@ type Exchange struct {
 	OpenHeat float64
 }
 
+// radFloating marks the surfaces of sub-enclosures that exchange radiation
+// (F_ij > 0 either way) only among themselves, with no known temperature and
+// no view of the open side: the linear system fixes their radiosities only
+// up to a common level, so it is singular. Their given heats must sum to
+// zero (to 1e-9 of their magnitude); the surroundings are not reachable to
+// take the rest.
+func radFloating(enc Enclosure, open bool, heat func(int) float64) ([]bool, error) {
+	n := len(enc.Area)
+	parent := make([]int, n)
+	for i := range parent {
+		parent[i] = i
+	}
+	var find func(int) int
+	find = func(i int) int {
+		for parent[i] != i {
+			parent[i] = parent[parent[i]]
+			i = parent[i]
+		}
+		return i
+	}
+	for i := range n {
+		for j := range n {
+			if enc.F[i][j] > 0 {
+				if ri, rj := find(i), find(j); ri != rj {
+					parent[max(ri, rj)] = min(ri, rj)
+				}
+			}
+		}
+	}
+	anchored := make([]bool, n)
+	for i := range n {
+		if !math.IsNaN(enc.Temperature[i]) || (open && enc.F[i][n] > 0) {
+			anchored[find(i)] = true
+		}
+	}
+	sum, mag := make([]float64, n), make([]float64, n)
+	for i := range n {
+		r := find(i)
+		sum[r] += heat(i)
+		mag[r] += math.Abs(heat(i))
+	}
+	out := make([]bool, n)
+	for i := range n {
+		r := find(i)
+		if anchored[r] {
+			continue
+		}
+		if math.Abs(sum[r]) > 1e-9*mag[r] {
+			return nil, fmt.Errorf("net radiation: surface %d lies in a closed enclosure with no known temperature whose given heats sum to %g W, not zero; give one of its surfaces a temperature", i, sum[r])
+		}
+		out[i] = true
+	}
+	return out, nil
+}
+
 // NetRadiation solves the gray-diffuse net-radiation method (Modest,
 // Radiative Heat Transfer, ch. 5; Incropera & DeWitt Sec. 13.3; both from
 // memory, matrix form as in CHECKS.md sec. 5) for the radiosities J:
@@ -56,9 +111,13 @@ type Exchange struct {
 // F_i,open J_open) and, where T was not given, sigma T_i^4 = J_i +
 // (1-e_i)/e_i q_i/A_i. The dense LU solve costs O(N^3). It returns an error
 // for inconsistent lengths, emissivities outside [0, 1], negative areas or
-// temperatures, or a singular system (for instance a closed enclosure where
-// every surface has a given heat). A surface of zero area must have zero
-// given heat; it neither emits nor absorbs.
+// temperatures, or a singular system. A closed sub-enclosure of surfaces
+// that all have a given heat (re-radiating walls inside a tube bore, sealed
+// slots) and no path to a surface of known temperature or to the open side
+// has no temperature level: when its heats sum to zero its surfaces get
+// their given heat, radiosity 0 and temperature NaN (undetermined);
+// otherwise energy cannot balance and it is an error. A surface of zero
+// area must have zero given heat; it neither emits nor absorbs.
 func NetRadiation(enc Enclosure) (*Exchange, error) {
 	n := len(enc.Area)
 	if len(enc.F) != n || len(enc.Emissivity) != n || len(enc.Temperature) != n {
@@ -133,6 +192,19 @@ func NetRadiation(enc Enclosure) (*Exchange, error) {
 			b.SetVec(i, heat(i)/ar+fo*jOpen)
 		}
 	}
+	floating, err := radFloating(enc, open, heat)
+	if err != nil {
+		return nil, err
+	}
+	for i := range n {
+		if floating[i] { // decoupled from everything with a level: pin J_i = 0
+			for j := range n {
+				a.Set(i, j, 0)
+			}
+			a.Set(i, i, 1)
+			b.SetVec(i, 0)
+		}
+	}
 	var lu mat.LU
 	lu.Factorize(a)
 	if c := lu.Cond(); !(c < 1e14) {
@@ -161,6 +233,10 @@ func NetRadiation(enc Enclosure) (*Exchange, error) {
 			irr += enc.F[i][n] * jOpen
 		}
 		q := enc.Area[i] * (x.Radiosity[i] - irr)
+		if floating[i] {
+			x.NetHeat[i], x.Temperature[i] = heat(i), math.NaN()
+			continue
+		}
 		if math.IsNaN(enc.Temperature[i]) {
 			q = heat(i) // exact by construction; avoids rounding noise on re-radiating walls
 			x.NetHeat[i] = q
