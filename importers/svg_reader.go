@@ -387,11 +387,16 @@ func (rr *svgRender) container(n *svgNode, c svgContext, m svgMatrix, vp r2.Vec)
 		return err
 	}
 	id, _ := n.attr("id")
+	cl, _ := n.attr("class")
 	switch {
 	case c.direct && c.useName != "":
 		c.group = c.useName
-	case id != "":
-		c.group = id
+	case strings.TrimSpace(id) != "":
+		c.group = strings.TrimSpace(id)
+	case len(strings.Fields(cl)) > 0:
+		// A group's class names its unnamed children as an element's
+		// class names the element: "id or class", as the README says.
+		c.group = strings.Fields(cl)[0]
 	}
 	c.m, c.vp, c.direct, c.useName = m, vp, false, ""
 	rr.active[n] = true
