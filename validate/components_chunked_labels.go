@@ -110,28 +110,7 @@ func (l *ChunkLabeler) meshLabels(ctx context.Context, g masks.Grid) (*Labels, e
 		if ty1 < ylo || ty0 > yhi || tz1 < zlo || tz0 > zhi {
 			continue
 		}
-		n := r3.Cross(r3.Sub(b, a), r3.Sub(c, a))
-		if n.X == 0 || math.IsNaN(n.X) {
-			continue
-		}
-		P := [3][2]float64{{a.Y, a.Z}, {b.Y, b.Z}, {c.Y, c.Z}}
-		if n.X < 0 {
-			P[1], P[2] = P[2], P[1]
-		}
-		j0, j1 := max(0, int(math.Floor((ty0-oy)/hy-0.5))), min(ny-1, int(math.Ceil((ty1-oy)/hy-0.5)))
-		k0, k1 := max(0, int(math.Floor((tz0-oz)/hz-0.5))), min(nz-1, int(math.Ceil((tz1-oz)/hz-0.5)))
-		for k := k0; k <= k1; k++ {
-			z := oz + (float64(k)+0.5)*hz
-			for j := j0; j <= j1; j++ {
-				y := oy + (float64(j)+0.5)*hy
-				if !leakInTriangle(P, y, z) {
-					continue
-				}
-				x := a.X - (n.Y*(y-a.Y)+n.Z*(z-a.Z))/n.X
-				rows = append(rows, int32(j+ny*k))
-				xs = append(xs, leakCrossing{x: x, part: l.shell[t]})
-			}
-		}
+		rows, xs = leakTriangleCrossings(g, a, b, c, l.shell[t], rows, xs)
 	}
 	start, sorted := leakBucket(rows, xs, ny*nz)
 	for r := range ny * nz {

@@ -77,6 +77,42 @@ func (l *Labels) BodyMeasure(b int32) float64 {
 }
 
 // leakCrossing is where a row of cell centres crosses a part.
+// leakTriangleCrossings appends, for every x-row of cell centres of g whose
+// (y, z) lies in the projection of triangle abc on the y-z plane (edge
+// ownership by leakInTriangle, so a row through a shared edge counts once),
+// the row index (j + ny*k) and the crossing at the x where the row meets the
+// triangle's plane. Triangles parallel to x cross no row.
+func leakTriangleCrossings(g masks.Grid, a, b, c r3.Vec, part int32, rows []int32, xs []leakCrossing) ([]int32, []leakCrossing) {
+	n := r3.Cross(r3.Sub(b, a), r3.Sub(c, a))
+	if n.X == 0 || math.IsNaN(n.X) {
+		return rows, xs
+	}
+	ny, nz := g.Cells[1], g.Cells[2]
+	oy, oz, hy, hz := g.Origin[1], g.Origin[2], g.Spacing[1], g.Spacing[2]
+	// Projected corners (y, z), counter-clockwise.
+	P := [3][2]float64{{a.Y, a.Z}, {b.Y, b.Z}, {c.Y, c.Z}}
+	if n.X < 0 {
+		P[1], P[2] = P[2], P[1]
+	}
+	ylo, yhi := min(a.Y, b.Y, c.Y), max(a.Y, b.Y, c.Y)
+	zlo, zhi := min(a.Z, b.Z, c.Z), max(a.Z, b.Z, c.Z)
+	j0, j1 := max(0, int(math.Floor((ylo-oy)/hy-0.5))), min(ny-1, int(math.Ceil((yhi-oy)/hy-0.5)))
+	k0, k1 := max(0, int(math.Floor((zlo-oz)/hz-0.5))), min(nz-1, int(math.Ceil((zhi-oz)/hz-0.5)))
+	for k := k0; k <= k1; k++ {
+		z := oz + (float64(k)+0.5)*hz
+		for j := j0; j <= j1; j++ {
+			y := oy + (float64(j)+0.5)*hy
+			if !leakInTriangle(P, y, z) {
+				continue
+			}
+			x := a.X - (n.Y*(y-a.Y)+n.Z*(z-a.Z))/n.X
+			rows = append(rows, int32(j+ny*k))
+			xs = append(xs, leakCrossing{x: x, part: part})
+		}
+	}
+	return rows, xs
+}
+
 type leakCrossing struct {
 	x    float64
 	part int32
@@ -171,7 +207,6 @@ func MeshLabels(ctx context.Context, m *importers.Mesh, g masks.Grid) (*Labels, 
 	vol := make([]float64, np)
 	seen := make([]bool, np)
 	ny, nz := g.Cells[1], g.Cells[2]
-	oy, oz, hy, hz := g.Origin[1], g.Origin[2], g.Spacing[1], g.Spacing[2]
 	var rows []int32
 	var xs []leakCrossing
 	for t, tr := range wm.Triangles {
@@ -189,31 +224,7 @@ func MeshLabels(ctx context.Context, m *importers.Mesh, g masks.Grid) (*Labels, 
 				lab.Surface[s] = int(wm.TriangleSurface[t])
 			}
 		}
-		n := r3.Cross(r3.Sub(b, a), r3.Sub(c, a))
-		if n.X == 0 || math.IsNaN(n.X) {
-			continue
-		}
-		// Projected corners (y, z), counter-clockwise.
-		P := [3][2]float64{{a.Y, a.Z}, {b.Y, b.Z}, {c.Y, c.Z}}
-		if n.X < 0 {
-			P[1], P[2] = P[2], P[1]
-		}
-		ylo, yhi := min(a.Y, b.Y, c.Y), max(a.Y, b.Y, c.Y)
-		zlo, zhi := min(a.Z, b.Z, c.Z), max(a.Z, b.Z, c.Z)
-		j0, j1 := max(0, int(math.Floor((ylo-oy)/hy-0.5))), min(ny-1, int(math.Ceil((yhi-oy)/hy-0.5)))
-		k0, k1 := max(0, int(math.Floor((zlo-oz)/hz-0.5))), min(nz-1, int(math.Ceil((zhi-oz)/hz-0.5)))
-		for k := k0; k <= k1; k++ {
-			z := oz + (float64(k)+0.5)*hz
-			for j := j0; j <= j1; j++ {
-				y := oy + (float64(j)+0.5)*hy
-				if !leakInTriangle(P, y, z) {
-					continue
-				}
-				x := a.X - (n.Y*(y-a.Y)+n.Z*(z-a.Z))/n.X
-				rows = append(rows, int32(j+ny*k))
-				xs = append(xs, leakCrossing{x: x, part: s})
-			}
-		}
+		rows, xs = leakTriangleCrossings(g, a, b, c, s, rows, xs)
 	}
 	for s := range np {
 		lab.Measure[s] = math.Abs(vol[s])
